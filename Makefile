@@ -1,0 +1,34 @@
+# Two commands on a fresh clone: `make demo` and `make test`.
+PYTHON ?= python3
+VENV := .venv
+BIN := $(VENV)/bin
+STAMP := $(VENV)/.installed
+DEMO ?= designs/millrace.toml
+
+.PHONY: venv demo test lint bench clean
+
+venv: $(STAMP)
+
+# Reinstall only when the project's metadata changes; the stamp makes `venv` idempotent.
+$(STAMP): pyproject.toml
+	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+	$(BIN)/python -m pip install --quiet -e '.[test]'
+	touch $(STAMP)
+
+demo: venv
+	mkdir -p out
+	$(BIN)/statorsmith plan $(DEMO) | tee out/$(notdir $(DEMO:.toml=))-plan.txt
+
+test: venv
+	$(BIN)/python -m pytest
+
+lint: venv
+	$(BIN)/ruff check .
+	$(BIN)/ruff format --check .
+
+bench: venv
+	$(BIN)/python bench/plan_speed.py
+
+clean:
+	rm -rf $(VENV) out/*/ out/*.txt

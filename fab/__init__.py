@@ -1,0 +1,5 @@
+"""statorsmith writers: command line, CAD solids, drawings, build sheet.
+
+Heavy backends (cadquery, ezdxf, reportlab) are imported inside the functions that use them,
+so that importing this package stays cheap.
+"""

@@ -1,0 +1,121 @@
+"""The statorsmith command line: parse, call one library function, print.
+
+Every user error ends as one line on stderr and exit code 2, never a traceback.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+
+import click
+
+from layout.spec import DesignError, load_spec
+
+EXIT_USER_ERROR = 2
+
+
+class CountRange(click.ParamType):
+    """`12` or `6-36`: a whole-number range, ends included."""
+
+    name = "range"
+
+    def __init__(self, lo: int, hi: int):
+        self.lo, self.hi = lo, hi
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, range):
+            return value
+        text = str(value).strip()
+        try:
+            if "-" in text:
+                a, b = (int(x) for x in text.split("-", 1))
+            else:
+                a = b = int(text)
+        except ValueError:
+            self.fail(f"{value!r}: give a number or a range like {self.lo}-{self.hi}", param, ctx)
+        if a > b:
+            self.fail(f"{value!r}: the range must go from low to high", param, ctx)
+        if a < self.lo or b > self.hi:
+            self.fail(f"{value!r}: allowed {self.lo} to {self.hi}", param, ctx)
+        return range(a, b + 1)
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(package_name="statorsmith")
+def cli():
+    """Design checks and build files for small axial-flux permanent-magnet alternators."""
+
+
+@cli.command()
+@click.option("--phases", type=click.Choice(["1", "3"]), default="3", show_default=True)
+@click.option(
+    "--coils",
+    type=CountRange(2, 96),
+    default="6-36",
+    show_default=True,
+    help="coil positions, a number or a range",
+)
+@click.option(
+    "--magnets",
+    type=CountRange(2, 120),
+    default="4-48",
+    show_default=True,
+    help="magnets per disc (even counts only), a number or a range",
+)
+@click.option(
+    "--sort",
+    type=click.Choice(["coils", "magnets", "winding_factor", "cogging_steps"]),
+    default="coils",
+    show_default=True,
+)
+@click.option("--balanced-only", is_flag=True, help="leave out combinations that cannot work")
+@click.option("--json", "as_json", is_flag=True, help="print a JSON array for scripts")
+def pairs(phases, coils, magnets, sort, balanced_only, as_json):
+    """Coil/magnet count combinations with winding factors, balance and notes."""
+    from fab.report import pairs_rows_json, pairs_text
+    from layout.pairs import combinations
+
+    rows = combinations(coils, magnets, int(phases), balanced_only=balanced_only, sort=sort)
+    if as_json:
+        click.echo(json.dumps(pairs_rows_json(rows), indent=2))
+    else:
+        click.echo(pairs_text(rows, int(phases)))
+
+
+@cli.command()
+@click.argument("design", metavar="DESIGN.toml")
+@click.option("--json", "as_json", is_flag=True, help="print a JSON object for scripts")
+def plan(design, as_json):
+    """Winding layout, predicted performance and warnings for one design."""
+    from fab.report import plan_json, plan_text
+    from layout.design import compute_design
+
+    d = compute_design(load_spec(design))
+    if as_json:
+        click.echo(json.dumps(plan_json(d), indent=2))
+    else:
+        click.echo(plan_text(d))
+
+
+def main(argv: list[str] | None = None) -> None:
+    """Console entry point with our error contract."""
+    try:
+        cli.main(args=argv, prog_name="statorsmith", standalone_mode=False)
+    except DesignError as exc:
+        click.echo(f"Error: {exc}", err=True)
+        sys.exit(EXIT_USER_ERROR)
+    except click.UsageError as exc:
+        click.echo(f"Error: {exc.format_message()}", err=True)
+        sys.exit(EXIT_USER_ERROR)
+    except click.exceptions.Abort:
+        click.echo("Aborted.", err=True)
+        sys.exit(1)
+    except click.exceptions.Exit as exc:
+        sys.exit(exc.exit_code)
+    except BrokenPipeError:
+        sys.exit(0)
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,373 @@
+"""Design files: TOML in, a frozen, validated Spec out.
+
+The spec key, the dataclass field and the JSON key are the same name. Each field's metadata
+says what is allowed; the reader checks every key against it, rejects unknown keys (a typo
+must not pass silently) and reports the first problem as one line naming the file, the key,
+the value and what is allowed.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import tomllib
+import types
+import typing
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from layout.materials import DISC_MATERIALS, MAGNET_GRADES, STATOR_BINDERS_MAX_C
+
+
+class DesignError(ValueError):
+    """A design file that cannot be used; str() is the one line shown to the user."""
+
+    def __init__(self, source: str, key: str | None, value: object, allowed: str):
+        self.source, self.key, self.value, self.allowed = source, key, value, allowed
+        where = f"{source}: {key} = {_show(value)}" if key else source
+        super().__init__(f"{where}: {allowed}")
+
+
+def _show(value: object) -> str:
+    if value is None:
+        return "(not given)"
+    if isinstance(value, str):
+        return f'"{value}"'
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, list | tuple):
+        return "[" + ", ".join(_show(v) for v in value) + "]"
+    return str(value)
+
+
+def rule(
+    default=dataclasses.MISSING,
+    *,
+    gt: float | None = None,
+    ge: float | None = None,
+    le: float | None = None,
+    lt: float | None = None,
+    choices: typing.Iterable[str] | None = None,
+    even: bool = False,
+    why: str = "",
+):
+    """A spec field with its allowed range; `why` is appended to range errors."""
+    meta = {"gt": gt, "ge": ge, "le": le, "lt": lt, "even": even, "why": why}
+    meta["choices"] = tuple(choices) if choices is not None else None
+    if default is dataclasses.MISSING:
+        return field(metadata=meta)
+    return field(default=default, metadata=meta)
+
+
+@dataclass(frozen=True)
+class StatorSpec:
+    phases: int = rule(ge=1, le=3, why="1 (single phase) or 3 (three phase)")
+    coil_positions: int = rule(ge=2, le=96)
+    thickness_mm: float = rule(gt=0, le=80)
+    empty_positions: tuple[int, ...] = rule(())
+    coil_clearance_mm: float = rule(1.5, ge=0, le=20)
+    resin_cover_mm: float = rule(0.5, ge=0, le=10)
+    hole_radial_mm: float | None = rule(None, gt=0)
+    hole_tangential_mm: float | None = rule(None, gt=0)
+    leg_width_mm: float | None = rule(None, gt=0)
+    hole_margin_mm: float = rule(1.0, ge=0, le=20)
+    binder: str = rule("epoxy", choices=STATOR_BINDERS_MAX_C)
+    fill_factor: float = rule(0.5, gt=0.1, le=0.75, why="hand-wound round wire fills 0.4–0.6")
+    wire_standard: str = rule("awg", choices=("awg", "metric"))
+    max_wire_diameter_mm: float = rule(1.6, gt=0.1, le=5)
+    mould_wall_mm: float = rule(10.0, gt=0, le=100)
+
+
+@dataclass(frozen=True)
+class MagnetSpec:
+    count: int = rule(ge=2, le=200, even=True, why="must be even (magnets alternate N/S)")
+    shape: str = rule(choices=("block", "disc"))
+    thickness_mm: float = rule(gt=0, le=100)
+    pitch_radius_mm: float = rule(gt=0, le=2000)
+    length_mm: float | None = rule(None, gt=0, le=500)
+    width_mm: float | None = rule(None, gt=0, le=500)
+    diameter_mm: float | None = rule(None, gt=0, le=500)
+    grade: str | None = rule(None, choices=MAGNET_GRADES)
+    remanence_t: float | None = rule(None, gt=0, le=1.6)
+    max_temperature_c: float | None = rule(None, gt=20, le=350)
+    mass_tolerance_pct: float = rule(1.0, ge=0, le=20)
+
+
+@dataclass(frozen=True)
+class RotorSpec:
+    topology: str = rule(choices=("two_discs", "one_disc_steel_stator", "one_disc_coreless"))
+    disc_material: str = rule(choices=DISC_MATERIALS)
+    disc_thickness_mm: float = rule(gt=0, le=100)
+    running_clearance_mm: float = rule(gt=0, le=50)
+    bore_diameter_mm: float = rule(25.0, gt=0, le=1000)
+    disc_outer_diameter_mm: float | None = rule(None, gt=0, le=4000)
+    stator_plate_thickness_mm: float | None = rule(None, gt=0, le=100)
+
+
+@dataclass(frozen=True)
+class ConnectionSpec:
+    kind: str = rule(choices=("star", "delta", "single_phase"))
+    parallel_paths: int = rule(1, ge=1, le=96)
+
+
+@dataclass(frozen=True)
+class TargetSpec:
+    kind: str = rule(choices=("battery", "dc", "ac_line"))
+    rated_rpm: float = rule(gt=0, le=20000)
+    max_rpm: float = rule(gt=0, le=20000)
+    battery_v: float | None = rule(None, gt=0, le=1000)
+    cut_in_rpm: float | None = rule(None, gt=0, le=20000)
+    battery_resistance_ohm: float = rule(0.05, gt=0, le=100)
+    voltage_v: float | None = rule(None, gt=0, le=10000)
+    rated_current_a: float | None = rule(None, gt=0, le=1000)
+    diode_drop_v: float = rule(0.9, ge=0, le=3, why="silicon 0.7–1.0 V, Schottky 0.3–0.5 V")
+    ambient_c: float = rule(25.0, ge=-40, le=60)
+
+
+@dataclass(frozen=True)
+class Spec:
+    name: str
+    purpose: str
+    stator: StatorSpec
+    magnets: MagnetSpec
+    rotor: RotorSpec
+    connection: ConnectionSpec
+    target: TargetSpec
+    source: str  # the file name shown in messages
+
+    def fail(self, key: str, value: object, allowed: str) -> DesignError:
+        """An error about this design's `key` (dotted), for checks made after loading."""
+        return DesignError(self.source, key, value, allowed)
+
+
+_SECTIONS: dict[str, type] = {
+    "stator": StatorSpec,
+    "magnets": MagnetSpec,
+    "rotor": RotorSpec,
+    "connection": ConnectionSpec,
+    "target": TargetSpec,
+}
+_TOP_KEYS = ("name", "purpose")
+
+
+def _base_type(annotation: str) -> tuple[type, bool]:
+    """The Python type a field holds and whether None is allowed."""
+    hint = eval(annotation, {"tuple": tuple, "int": int, "float": float, "str": str})  # noqa: S307
+    optional = False
+    if isinstance(hint, types.UnionType):
+        args = [a for a in typing.get_args(hint) if a is not type(None)]
+        optional, hint = True, args[0]
+    if typing.get_origin(hint) is tuple:
+        return tuple, optional
+    return hint, optional
+
+
+def _read_value(src: str, key: str, value: object, f: dataclasses.Field):
+    kind, _ = _base_type(f.type)
+    m = f.metadata
+    if kind is tuple:
+        if not isinstance(value, list) or not all(
+            isinstance(v, int) and not isinstance(v, bool) for v in value
+        ):
+            raise DesignError(src, key, value, "must be a list of whole numbers")
+        return tuple(value)
+    if kind is str:
+        if not isinstance(value, str):
+            raise DesignError(src, key, value, "must be text in quotes")
+        if m["choices"] is not None and value not in m["choices"]:
+            raise DesignError(src, key, value, "must be one of " + ", ".join(m["choices"]))
+        return value
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        raise DesignError(src, key, value, "must be a number")
+    if kind is int and not (isinstance(value, int) or float(value).is_integer()):
+        raise DesignError(src, key, value, "must be a whole number")
+    number = int(value) if kind is int else float(value)
+    if not math.isfinite(number):
+        raise DesignError(src, key, value, "must be a finite number")
+    if m["even"] and number % 2:
+        raise DesignError(src, key, value, m["why"] or "must be even")
+    bounds = []
+    ok = True
+    for name, test, word in (
+        ("gt", lambda b: number > b, "more than"),
+        ("ge", lambda b: number >= b, "at least"),
+        ("lt", lambda b: number < b, "less than"),
+        ("le", lambda b: number <= b, "at most"),
+    ):
+        if m[name] is not None:
+            bounds.append(f"{word} {m[name]:g}")
+            ok = ok and test(m[name])
+    if not ok:
+        reason = "must be " + " and ".join(bounds)
+        if m["why"]:
+            reason += f" ({m['why']})"
+        raise DesignError(src, key, value, reason)
+    return number
+
+
+def _read_section(src: str, section: str, table: object, cls: type):
+    if not isinstance(table, dict):
+        raise DesignError(src, section, table, "must be a table ([" + section + "])")
+    fields = {f.name: f for f in dataclasses.fields(cls)}
+    for key in table:
+        if key not in fields:
+            raise DesignError(
+                src, f"{section}.{key}", table[key], "unknown key; allowed: " + ", ".join(fields)
+            )
+    values = {}
+    for name, f in fields.items():
+        key = f"{section}.{name}"
+        if name in table:
+            values[name] = _read_value(src, key, table[name], f)
+        elif f.default is dataclasses.MISSING:
+            raise DesignError(src, key, None, "required")
+    return cls(**values)
+
+
+def parse_spec(data: dict, source: str) -> Spec:
+    """Validate a parsed TOML document; raise DesignError on the first problem."""
+    allowed = ", ".join(_TOP_KEYS + tuple(f"[{s}]" for s in _SECTIONS))
+    for key in data:
+        if key not in _TOP_KEYS and key not in _SECTIONS:
+            raise DesignError(source, key, data[key], "unknown key; allowed: " + allowed)
+    for key in _TOP_KEYS:
+        if key not in data:
+            raise DesignError(source, key, None, "required")
+        if not isinstance(data[key], str) or not data[key].strip():
+            raise DesignError(source, key, data[key], "must be non-empty text in quotes")
+    sections = {}
+    for section, cls in _SECTIONS.items():
+        if section not in data:
+            raise DesignError(source, f"[{section}]", None, "required table")
+        sections[section] = _read_section(source, section, data[section], cls)
+    spec = Spec(name=data["name"], purpose=data["purpose"], source=source, **sections)
+    _check_consistency(spec)
+    return spec
+
+
+def _check_consistency(spec: Spec) -> None:
+    """Rules that tie several keys together."""
+    st, mg, ro, co, ta = spec.stator, spec.magnets, spec.rotor, spec.connection, spec.target
+    if not spec.name.replace("-", "").replace("_", "").isalnum():
+        raise spec.fail("name", spec.name, "use letters, digits, - and _ only (it names files)")
+    if st.phases == 2:
+        raise spec.fail("stator.phases", 2, "must be 1 (single phase) or 3 (three phase)")
+    if (st.phases == 1) != (co.kind == "single_phase"):
+        allowed = '"single_phase"' if st.phases == 1 else '"star" or "delta"'
+        raise spec.fail(
+            "connection.kind", co.kind, f"must be {allowed} for stator.phases = {st.phases}"
+        )
+    for pos in st.empty_positions:
+        if not 1 <= pos <= st.coil_positions:
+            raise spec.fail(
+                "stator.empty_positions",
+                list(st.empty_positions),
+                f"positions are numbered 1 to {st.coil_positions}",
+            )
+    if len(set(st.empty_positions)) != len(st.empty_positions):
+        raise spec.fail(
+            "stator.empty_positions", list(st.empty_positions), "lists a position twice"
+        )
+    if len(st.empty_positions) >= st.coil_positions:
+        raise spec.fail("stator.empty_positions", list(st.empty_positions), "leaves no coil")
+    if mg.shape == "block":
+        for key in ("length_mm", "width_mm"):
+            if getattr(mg, key) is None:
+                raise spec.fail(f"magnets.{key}", None, 'required for magnets.shape = "block"')
+        if mg.diameter_mm is not None:
+            raise spec.fail(
+                "magnets.diameter_mm", mg.diameter_mm, 'only for magnets.shape = "disc"'
+            )
+    else:
+        if mg.diameter_mm is None:
+            raise spec.fail("magnets.diameter_mm", None, 'required for magnets.shape = "disc"')
+        for key in ("length_mm", "width_mm"):
+            if getattr(mg, key) is not None:
+                raise spec.fail(
+                    f"magnets.{key}", getattr(mg, key), 'only for magnets.shape = "block"'
+                )
+    if (mg.grade is None) == (mg.remanence_t is None):
+        raise spec.fail(
+            "magnets.grade", mg.grade, "give exactly one of magnets.grade and magnets.remanence_t"
+        )
+    if ta.max_rpm < ta.rated_rpm:
+        raise spec.fail(
+            "target.max_rpm", ta.max_rpm, f"must be at least target.rated_rpm ({ta.rated_rpm:g})"
+        )
+    if ta.kind == "battery":
+        for key in ("battery_v", "cut_in_rpm"):
+            if getattr(ta, key) is None:
+                raise spec.fail(f"target.{key}", None, 'required for target.kind = "battery"')
+        if ta.cut_in_rpm >= ta.rated_rpm:
+            raise spec.fail(
+                "target.cut_in_rpm",
+                ta.cut_in_rpm,
+                f"must be below target.rated_rpm ({ta.rated_rpm:g})",
+            )
+    else:
+        for key in ("voltage_v", "rated_current_a"):
+            if getattr(ta, key) is None:
+                raise spec.fail(f"target.{key}", None, f'required for target.kind = "{ta.kind}"')
+    if ta.kind == "ac_line" and st.phases == 1:
+        raise spec.fail("target.kind", ta.kind, 'single phase: use "battery" or "dc"')
+    steel_stator = ro.topology == "one_disc_steel_stator"
+    if steel_stator and ro.stator_plate_thickness_mm is None:
+        raise spec.fail(
+            "rotor.stator_plate_thickness_mm",
+            None,
+            'required for rotor.topology = "one_disc_steel_stator"',
+        )
+    if not steel_stator and ro.stator_plate_thickness_mm is not None:
+        raise spec.fail(
+            "rotor.stator_plate_thickness_mm",
+            ro.stator_plate_thickness_mm,
+            'only for rotor.topology = "one_disc_steel_stator"',
+        )
+    if 2 * st.resin_cover_mm >= st.thickness_mm:
+        raise spec.fail(
+            "stator.resin_cover_mm",
+            st.resin_cover_mm,
+            f"two covers leave no room for coils in stator.thickness_mm = {st.thickness_mm:g}",
+        )
+    inner = magnet_radial_extent_mm(mg)
+    if mg.pitch_radius_mm - inner / 2 <= ro.bore_diameter_mm / 2:
+        raise spec.fail(
+            "magnets.pitch_radius_mm",
+            mg.pitch_radius_mm,
+            f"magnets reach into the bore (rotor.bore_diameter_mm = {ro.bore_diameter_mm:g})",
+        )
+
+
+def magnet_radial_extent_mm(mg: MagnetSpec) -> float:
+    """Radial size of one magnet's footprint."""
+    return mg.length_mm if mg.shape == "block" else mg.diameter_mm
+
+
+def magnet_tangential_extent_mm(mg: MagnetSpec) -> float:
+    """Tangential size of one magnet's footprint."""
+    return mg.width_mm if mg.shape == "block" else mg.diameter_mm
+
+
+def load_spec(path: str | Path) -> Spec:
+    """Read and validate a design file. Every failure is a DesignError with one line."""
+    p = Path(path)
+    src = p.name
+    try:
+        raw = p.read_bytes()
+    except FileNotFoundError:
+        raise DesignError(src, None, None, f"no such file ({p})") from None
+    except IsADirectoryError:
+        raise DesignError(src, None, None, "is a folder, not a design file") from None
+    except OSError as exc:
+        raise DesignError(src, None, None, f"cannot be read ({exc.strerror})") from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError:
+        raise DesignError(src, None, None, "is not UTF-8 text (a TOML design file)") from None
+    if not text.strip():
+        raise DesignError(src, None, None, "is empty; a design needs name, purpose and its tables")
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise DesignError(src, None, None, f"is not valid TOML: {exc}") from None
+    return parse_spec(data, src)

@@ -1,0 +1,294 @@
+"""Winding layout by the star of slots.
+
+Coil position k of Q (numbered from 1, position 1 at 0°) sits at mechanical angle
+α = 2π(k−1)/Q. Under P alternating magnets (p = P/2 pole pairs) its EMF phasor as wound has
+electrical angle −p·α: the rotor turning towards +α reaches the coil later, so its EMF lags.
+Bianchi & Dai Prè, "Use of the star of slots in designing fractional-slot single-layer
+synchronous motors", IEE Proc. Electr. Power Appl. 153(3), 2006.
+
+Three phases take 60° belts (+A, −B, +C, −A, +B, −C around the star); a coil in a "−" belt
+is connected reversed. Single phase takes the half plane that maximises the series sum.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+PHASE_NAMES = ("A", "B", "C")
+# Belt b (60° wide, counted from the offset) → (phase index, polarity).
+_BELTS = ((0, +1), (1, -1), (2, +1), (0, -1), (1, +1), (2, -1))
+_ANGLE_TOL_DEG = 0.1  # phases 120° apart within this
+_REL_TOL = 1e-6
+
+
+@dataclass(frozen=True)
+class Coil:
+    index: int  # position number, 1..Q
+    angle_deg: float  # mechanical angle of the coil's centre line
+    phasor_deg: float  # electrical angle of its EMF as wound, relative to position 1
+    phase: str  # "A", "B", "C"
+    polarity: int  # +1 as wound, -1 connected reversed
+    path: int  # parallel path number, 1..a
+
+
+@dataclass(frozen=True)
+class Layout:
+    coil_positions: int
+    magnets: int
+    phases: int
+    empty_positions: tuple[int, ...]
+    coils: tuple[Coil, ...]
+    pole_pairs: int
+    periodicity: int  # t = gcd(Q, p)
+    rotational_symmetry: int  # gcd(Q, P): how many identical sectors the forces see
+    balanced: bool
+    distribution_factor: float  # smallest over the phases
+    pitch_factor: float  # tooth coils spanning one position pitch
+    winding_factor: float
+    as_wound_distribution_factor: float  # every coil connected as wound (single phase)
+    phase_angles_deg: tuple[float, ...]  # angle of each phase's EMF sum
+    phase_magnitudes: tuple[float, ...]  # |sum of signed unit phasors| per phase
+    coils_per_phase: tuple[int, ...]
+    cogging_steps: int  # LCM(Q, P) per revolution, with iron teeth only
+    unbalanced_pull: bool
+    allowed_parallel_paths: tuple[int, ...]
+    parallel_paths: int
+
+    def phase_coils(self, phase: str) -> tuple[Coil, ...]:
+        return tuple(c for c in self.coils if c.phase == phase)
+
+    @property
+    def phase_names(self) -> tuple[str, ...]:
+        return PHASE_NAMES[: self.phases]
+
+    @property
+    def series_coils_per_path(self) -> int:
+        return self.coils_per_phase[0] // self.parallel_paths
+
+
+def tooth_pitch_factor(pole_pairs: int, coil_positions: int) -> float:
+    """k_p = |sin(p·π/Q)| for a coil spanning one position pitch (tooth coil)."""
+    return abs(math.sin(pole_pairs * math.pi / coil_positions))
+
+
+def span_pitch_factor(pole_pairs: int, span_rad: float) -> float:
+    """k_p = |sin(p·β/2)| for a coil whose legs' centres are β (mechanical radians) apart."""
+    return abs(math.sin(pole_pairs * span_rad / 2))
+
+
+def _unit(deg: np.ndarray) -> np.ndarray:
+    return np.exp(1j * np.radians(deg))
+
+
+def _phasors_deg(q: int, p: int, active: np.ndarray) -> np.ndarray:
+    """Electrical angle (degrees, [0, 360)) of each active position's EMF as wound."""
+    return np.mod(-p * 360.0 * active / q, 360.0)
+
+
+def _belt_assignment(theta_deg: np.ndarray, offset_deg: float) -> tuple[np.ndarray, np.ndarray]:
+    belt = np.floor(np.mod(theta_deg - offset_deg, 360.0) / 60.0).astype(int) % 6
+    belt = (belt - belt[0]) % 6  # the first coil defines +A
+    phase = np.array([_BELTS[b][0] for b in belt])
+    sign = np.array([_BELTS[b][1] for b in belt])
+    return phase, sign
+
+
+def _phase_sums(theta_deg, phase, sign, n_phases) -> np.ndarray:
+    u = sign * _unit(theta_deg)
+    return np.array([u[phase == k].sum() for k in range(n_phases)])
+
+
+def _is_balanced(sums: np.ndarray, counts: np.ndarray) -> bool:
+    if counts.min() == 0 or counts.min() != counts.max():
+        return False
+    mags = np.abs(sums)
+    if mags.min() <= _REL_TOL * counts[0] or (mags.max() - mags.min()) > _REL_TOL * mags.max():
+        return False
+    ang = np.degrees(np.angle(sums))
+    # B lags A by 120°, C lags A by 240°.
+    for k in (1, 2):
+        d = (ang[0] - ang[k] - 120.0 * k + 180.0) % 360.0 - 180.0
+        if abs(d) > _ANGLE_TOL_DEG:
+            return False
+    return True
+
+
+def _three_phase(theta_deg: np.ndarray):
+    """Try belt offsets midway between phasor angles; keep the best-balanced assignment.
+
+    Offsets on a phasor would make the assignment depend on rounding (12 coils under
+    14 magnets puts every phasor on a belt edge at offset 0); midpoints never do.
+    """
+    frac = np.unique(np.round(np.mod(theta_deg, 60.0), 9))
+    nxt = np.append(frac[1:], frac[0] + 60.0)
+    candidates = np.mod((frac + nxt) / 2.0, 60.0)
+    best = None
+    for off in candidates:
+        phase, sign = _belt_assignment(theta_deg, off)
+        sums = _phase_sums(theta_deg, phase, sign, 3)
+        counts = np.bincount(phase, minlength=3)
+        kd = np.abs(sums) / np.maximum(counts, 1)
+        balanced = _is_balanced(sums, counts)
+        score = (balanced, float(kd.min()), -int(counts.max() - counts.min()))
+        if best is None or score > best[0]:
+            best = (score, phase, sign, sums, counts)
+    _, phase, sign, sums, counts = best
+    return phase, sign, sums, counts
+
+
+def _single_phase(theta_deg: np.ndarray):
+    """The polarities that maximise |Σ s_k·e^{jθ_k}|: s_k = sign(cos(θ_k − u)) for the best u.
+
+    The optimum is a half plane, so only directions just past ±90° of some phasor need trying.
+    """
+    u = _unit(theta_deg)
+    eps = 1e-7
+    cands = np.concatenate(
+        [theta_deg, theta_deg + 90 + eps, theta_deg - 90 - eps, theta_deg + 90 - eps]
+    )
+    best = None
+    for d in np.radians(cands):
+        proj = np.cos(np.radians(theta_deg) - d)
+        s = np.where(proj >= -1e-12, 1, -1)
+        if s[0] < 0:
+            s = -s
+        mag = abs((s * u).sum())
+        score = (round(mag, 9), -int((s < 0).sum()))
+        if best is None or score > best[0]:
+            best = (score, s)
+    sign = best[1]
+    phase = np.zeros(len(theta_deg), dtype=int)
+    return phase, sign, np.array([(sign * u).sum()]), np.array([len(theta_deg)])
+
+
+def _path_groups(theta_deg, sign, members: np.ndarray, a: int) -> np.ndarray | None:
+    """Split one phase's coils (in position order) into `a` runs of equal EMF, or None."""
+    n = len(members)
+    if n % a:
+        return None
+    size = n // a
+    u = sign[members] * _unit(theta_deg[members])
+    sums = u.reshape(a, size).sum(axis=1)
+    if np.abs(sums - sums[0]).max() > 1e-6 * max(1.0, abs(sums[0])) or abs(sums[0]) < 1e-9:
+        return None
+    return np.repeat(np.arange(1, a + 1), size)
+
+
+def star_of_slots(
+    coil_positions: int,
+    magnets: int,
+    phases: int,
+    empty_positions: tuple[int, ...] = (),
+    parallel_paths: int = 1,
+) -> Layout:
+    """The winding layout for Q positions under P magnets (per disc).
+
+    Raises ValueError if the counts are impossible; an unusable layout (unbalanced, coils
+    cancelling) is returned with its figures so the caller can say what is wrong.
+    """
+    q, pm = int(coil_positions), int(magnets)
+    if q < 2 or pm < 2 or pm % 2:
+        raise ValueError("need at least 2 coil positions and an even magnet count of at least 2")
+    if phases not in (1, 3):
+        raise ValueError("phases must be 1 or 3")
+    p = pm // 2
+    empty = tuple(sorted(set(empty_positions)))
+    active = np.array([k for k in range(q) if (k + 1) not in empty])
+    if len(active) == 0:
+        raise ValueError("no coil positions left")
+    theta = _phasors_deg(q, p, active)
+    if phases == 3:
+        phase, sign, sums, counts = _three_phase(theta)
+        balanced = _is_balanced(sums, counts)
+    else:
+        phase, sign, sums, counts = _single_phase(theta)
+        balanced = True
+    kd_each = np.abs(sums) / np.maximum(counts, 1)
+    kd = float(kd_each.min())
+    kp = tooth_pitch_factor(p, q)
+    as_wound = float(abs(_unit(theta).sum()) / len(theta))
+
+    allowed: list[int] = []
+    groups_by_a: dict[int, np.ndarray] = {}
+    n_min = int(counts.min())
+    for a in range(1, max(n_min, 1) + 1):
+        paths = np.zeros(len(active), dtype=int)
+        ok = n_min > 0 and kd > 1e-9
+        for k in range(phases):
+            members = np.flatnonzero(phase == k)
+            g = _path_groups(theta, sign, members, a) if ok else None
+            if g is None:
+                ok = False
+                break
+            paths[members] = g
+        if ok:
+            allowed.append(a)
+            groups_by_a[a] = paths
+    a_used = parallel_paths if parallel_paths in groups_by_a else 1
+    paths = groups_by_a.get(a_used, np.ones(len(active), dtype=int))
+
+    coils = tuple(
+        Coil(
+            index=int(k) + 1,
+            angle_deg=360.0 * int(k) / q,
+            phasor_deg=float(theta[i]),
+            phase=PHASE_NAMES[int(phase[i])],
+            polarity=int(sign[i]),
+            path=int(paths[i]),
+        )
+        for i, k in enumerate(active)
+    )
+    symmetry = math.gcd(q, pm)
+    return Layout(
+        coil_positions=q,
+        magnets=pm,
+        phases=phases,
+        empty_positions=empty,
+        coils=coils,
+        pole_pairs=p,
+        periodicity=math.gcd(q, p),
+        rotational_symmetry=symmetry,
+        balanced=bool(balanced),
+        distribution_factor=kd,
+        pitch_factor=kp,
+        winding_factor=kd * kp,
+        as_wound_distribution_factor=as_wound,
+        phase_angles_deg=tuple(float(np.degrees(np.angle(s))) for s in sums),
+        phase_magnitudes=tuple(float(abs(s)) for s in sums),
+        coils_per_phase=tuple(int(c) for c in counts),
+        cogging_steps=math.lcm(q, pm),
+        unbalanced_pull=symmetry == 1,
+        allowed_parallel_paths=tuple(allowed),
+        parallel_paths=a_used,
+    )
+
+
+def layout_notes(layout: Layout) -> list[str]:
+    """Plain-words remarks on a layout, each saying what it means for the builder."""
+    notes: list[str] = []
+    if layout.phases == 3 and not layout.balanced:
+        q_active = len(layout.coils)
+        if q_active % 3:
+            notes.append(f"{q_active} coils do not split into three equal phases")
+        else:
+            notes.append("phases unequal or not 120° apart: not a balanced three-phase set")
+    if layout.phases == 1:
+        if layout.as_wound_distribution_factor < 1e-6:
+            notes.append("coils cancel if all wired as wound; reverse the marked coils")
+        elif layout.as_wound_distribution_factor < layout.distribution_factor - 1e-6:
+            notes.append("reversing some coils raises the output")
+        if layout.distribution_factor > 1 - 1e-9:
+            if layout.as_wound_distribution_factor > 1 - 1e-9:
+                notes.append("every coil in phase as wound")
+            else:
+                notes.append("with the reversed coils connected, every coil adds in phase")
+    if layout.distribution_factor < 1e-6:
+        notes.append("no usable output: the coil EMFs cancel")
+    elif layout.winding_factor < 0.5:
+        notes.append("weak: winding factor below 0.5")
+    if layout.unbalanced_pull:
+        notes.append("no rotational symmetry: unbalanced magnetic pull on the bearings")
+    return notes
