@@ -100,8 +100,12 @@ def plan(design, as_json):
 
 def main(argv: list[str] | None = None) -> None:
     """Console entry point with our error contract."""
+    args = sys.argv[1:] if argv is None else argv
+    if not args:
+        click.echo(cli.get_help(click.Context(cli, info_name="statorsmith")))
+        sys.exit(0)
     try:
-        cli.main(args=argv, prog_name="statorsmith", standalone_mode=False)
+        cli.main(args=args, prog_name="statorsmith", standalone_mode=False)
     except DesignError as exc:
         click.echo(f"Error: {exc}", err=True)
         sys.exit(EXIT_USER_ERROR)

@@ -57,7 +57,6 @@ def pairs_rows_json(rows: Sequence[Pair]) -> list[dict]:
             "periodicity": r.periodicity,
             "rotational_symmetry": r.rotational_symmetry,
             "cogging_steps": r.cogging_steps,
-            "allowed_parallel_paths": list(r.allowed_parallel_paths),
             "notes": list(r.notes),
         }
         if r.phases == 1:

@@ -23,11 +23,18 @@ def winding_layout(spec: Spec) -> Layout:
         st.coil_positions, mg.count, st.phases, st.empty_positions, spec.connection.parallel_paths
     )
     if lay.distribution_factor < 1e-6 or (st.phases == 3 and not lay.balanced):
+        if st.empty_positions:
+            full = star_of_slots(st.coil_positions, mg.count, st.phases)
+            if full.balanced and full.distribution_factor > 1e-6:
+                raise spec.fail(
+                    "stator.empty_positions",
+                    list(st.empty_positions),
+                    "leave the phases unequal; leave out one coil of each phase or none "
+                    "(positions numbered from 1 at 0°)",
+                )
         alts = balanced_alternatives(st.coil_positions, st.phases, mg.count)
         hint = ", ".join(f"{a.magnets} (winding factor {a.winding_factor:.3f})" for a in alts)
         what = "coil EMFs cancel" if lay.distribution_factor < 1e-6 else "phases unbalanced"
-        if st.empty_positions and lay.distribution_factor >= 1e-6:
-            what += " with these empty positions"
         raise spec.fail(
             "magnets.count",
             mg.count,

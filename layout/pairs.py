@@ -20,7 +20,6 @@ class Pair:
     periodicity: int
     rotational_symmetry: int
     cogging_steps: int
-    allowed_parallel_paths: tuple[int, ...]
     notes: tuple[str, ...]
 
 
@@ -46,7 +45,7 @@ def combinations(
         for pm in magnets:
             if pm % 2 or pm < 2 or q < 2:
                 continue
-            lay = star_of_slots(q, pm, phases)
+            lay = star_of_slots(q, pm, phases, exact_paths=False)
             if balanced_only and not (lay.balanced and lay.distribution_factor > 1e-9):
                 continue
             rows.append(
@@ -62,7 +61,6 @@ def combinations(
                     periodicity=lay.periodicity,
                     rotational_symmetry=lay.rotational_symmetry,
                     cogging_steps=lay.cogging_steps,
-                    allowed_parallel_paths=lay.allowed_parallel_paths,
                     notes=tuple(pair_notes(lay)),
                 )
             )

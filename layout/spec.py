@@ -9,6 +9,7 @@ the value and what is allowed.
 from __future__ import annotations
 
 import dataclasses
+import json
 import math
 import tomllib
 import types
@@ -32,7 +33,7 @@ def _show(value: object) -> str:
     if value is None:
         return "(not given)"
     if isinstance(value, str):
-        return f'"{value}"'
+        return json.dumps(value, ensure_ascii=False)  # escapes newlines: one line always
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, list | tuple):

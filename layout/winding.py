@@ -132,7 +132,7 @@ def _three_phase(theta_deg: np.ndarray):
         counts = np.bincount(phase, minlength=3)
         kd = np.abs(sums) / np.maximum(counts, 1)
         balanced = _is_balanced(sums, counts)
-        score = (balanced, float(kd.min()), -int(counts.max() - counts.min()))
+        score = (balanced, round(float(kd.min()), 9), -int(counts.max() - counts.min()))
         if best is None or score > best[0]:
             best = (score, phase, sign, sums, counts)
     _, phase, sign, sums, counts = best
@@ -164,17 +164,86 @@ def _single_phase(theta_deg: np.ndarray):
     return phase, sign, np.array([(sign * u).sum()]), np.array([len(theta_deg)])
 
 
-def _path_groups(theta_deg, sign, members: np.ndarray, a: int) -> np.ndarray | None:
-    """Split one phase's coils (in position order) into `a` runs of equal EMF, or None."""
+_SEARCH_BUDGET = 50_000  # nodes of the exact path search before giving up on an `a`
+
+
+def _key(z: complex) -> tuple[int, int]:
+    return (round(z.real * 1e6), round(z.imag * 1e6))
+
+
+def _exact_split(u: np.ndarray, a: int) -> np.ndarray | None:
+    """Partition phasors `u` into `a` equal-size groups of equal sum, by backtracking.
+
+    Each group starts with the lowest coil not yet placed (so no group order is tried
+    twice); the last member of a group is looked up rather than searched.
+    """
+    n = len(u)
+    size = n // a
+    target = u.sum() / a
+    group = np.full(n, -1)
+    budget = [_SEARCH_BUDGET]
+
+    def fill(g: int, start: int, need: int, partial: complex) -> bool:
+        budget[0] -= 1
+        if budget[0] < 0:
+            return False
+        if need == 1:
+            want = _key(target - partial)
+            for i in range(start, n):
+                if group[i] < 0 and _key(u[i]) == want:
+                    group[i] = g
+                    if next_group(g + 1):
+                        return True
+                    group[i] = -1
+            return False
+        for i in range(start, n):
+            if group[i] < 0:
+                group[i] = g
+                if fill(g, i + 1, need - 1, partial + u[i]):
+                    return True
+                group[i] = -1
+        return False
+
+    def next_group(g: int) -> bool:
+        if g == a:
+            return True
+        first = int(np.flatnonzero(group < 0)[0])
+        group[first] = g
+        if size == 1:
+            ok = _key(u[first]) == _key(target) and next_group(g + 1)
+        else:
+            ok = fill(g, first + 1, size - 1, u[first])
+        if not ok:
+            group[first] = -1
+        return ok
+
+    return group + 1 if next_group(0) else None
+
+
+def _path_groups(theta_deg, sign, members: np.ndarray, a: int, exact: bool) -> np.ndarray | None:
+    """Split one phase's coils into `a` paths of equal EMF (equal signed phasor sums).
+
+    Runs of consecutive coils, every a-th coil, and coils of equal phasor dealt out in
+    turn cover symmetric machines at once; with `exact`, a bounded search finds the rest
+    (12 coils under 14 magnets, single phase, splits into 4 paths).
+    """
     n = len(members)
     if n % a:
         return None
-    size = n // a
     u = sign[members] * _unit(theta_deg[members])
-    sums = u.reshape(a, size).sum(axis=1)
-    if np.abs(sums - sums[0]).max() > 1e-6 * max(1.0, abs(sums[0])) or abs(sums[0]) < 1e-9:
+    if abs(u.sum()) < 1e-9:
         return None
-    return np.repeat(np.arange(1, a + 1), size)
+    size = n // a
+    keys = [_key(z) for z in u]
+    order = sorted(range(n), key=lambda i: (keys[i], i))
+    dealt = np.empty(n, dtype=int)
+    dealt[order] = np.arange(n) % a + 1
+    candidates = (np.repeat(np.arange(1, a + 1), size), np.tile(np.arange(1, a + 1), size), dealt)
+    for groups in candidates:
+        sums = np.array([u[groups == g].sum() for g in range(1, a + 1)])
+        if np.abs(sums - sums[0]).max() <= 1e-6 * max(1.0, abs(sums[0])):
+            return groups
+    return _exact_split(u, a) if exact else None
 
 
 def star_of_slots(
@@ -183,11 +252,13 @@ def star_of_slots(
     phases: int,
     empty_positions: tuple[int, ...] = (),
     parallel_paths: int = 1,
+    exact_paths: bool = True,
 ) -> Layout:
     """The winding layout for Q positions under P magnets (per disc).
 
     Raises ValueError if the counts are impossible; an unusable layout (unbalanced, coils
     cancelling) is returned with its figures so the caller can say what is wrong.
+    `exact_paths=False` skips the slow search for irregular parallel paths (for scans).
     """
     q, pm = int(coil_positions), int(magnets)
     if q < 2 or pm < 2 or pm % 2:
@@ -219,7 +290,7 @@ def star_of_slots(
         ok = n_min > 0 and kd > 1e-9
         for k in range(phases):
             members = np.flatnonzero(phase == k)
-            g = _path_groups(theta, sign, members, a) if ok else None
+            g = _path_groups(theta, sign, members, a, exact_paths) if ok else None
             if g is None:
                 ok = False
                 break

@@ -167,11 +167,6 @@ def test_folder_is_not_a_design(tmp_path):
     assert "folder" in one_line_error(folder)
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="DesignError shows text values as they are: a value holding a newline (TOML "
-    '"\\n" escape) splits the message over two lines',
-)
 def test_value_with_a_newline_still_gives_one_line(tmp_path):
     path = tmp_path / BAD_NAME
     path.write_text(edited("millrace", 'binder = "epoxy"', 'binder = "ep\\noxy"'), "utf-8")

@@ -321,21 +321,10 @@ def test_hand_split_into_equal_paths(q, pm, empty, signs, groups):
         assert s == pytest.approx(sums[0])
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="allowed_parallel_paths only tries runs of consecutive coils; 12/14 single phase "
-    "splits into 4 equal paths {1,4,5} {7,10,11} {2,3,6} {8,9,12} but reports (1, 2)",
-)
 def test_12_14_single_phase_allows_four_paths():
     assert 4 in star_of_slots(12, 14, 1).allowed_parallel_paths
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="allowed_parallel_paths depends on where numbering starts: 8/12 single phase with "
-    "positions 2, 8 empty allows (1, 2); the same machine with 5, 7 empty allows (1,) "
-    "though coils {1,2,4} and {3,6,8} carry equal EMF",
-)
 def test_allowed_paths_do_not_depend_on_numbering():
     a = star_of_slots(8, 12, 1, (2, 8))
     b = star_of_slots(8, 12, 1, (5, 7))
@@ -343,11 +332,6 @@ def test_allowed_paths_do_not_depend_on_numbering():
     assert a.allowed_parallel_paths == b.allowed_parallel_paths
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="three-phase belt search compares the raw float min k_d, so a 1e-16 difference "
-    "between equal candidates beats the intended tie-break on phase count spread",
-)
 def test_unbalanced_tie_break_is_not_float_noise():
     # 37 positions under 36 magnets, five empty; the second is the same machine numbered
     # from position 2. Both have the same worst-phase factor; the belt search is meant to
