@@ -132,12 +132,134 @@ def layout_json(design: Design) -> dict:
     return d
 
 
+def _r(x, n=4):
+    return None if x is None else round(float(x), n)
+
+
+def electrical_json(design: Design) -> dict:
+    pr = design.prediction
+    rated = pr.rated
+    return {
+        "turns_per_coil": pr.turns_per_coil,
+        "wire": pr.wire.name,
+        "wire_diameter_mm": _r(pr.wire.diameter_mm),
+        "strands_in_hand": pr.wire.strands,
+        "copper_fill": _r(pr.copper_fill),
+        "series_coils_per_path": pr.series_coils,
+        "parallel_paths": pr.parallel_paths,
+        "coil_resistance_ohm": _r(pr.coil_resistance_ohm),
+        "phase_resistance_ohm": _r(pr.phase_resistance_ohm),
+        "coil_inductance_mh": _r(pr.coil_inductance_mh),
+        "phase_inductance_mh": _r(pr.phase_inductance_mh),
+        "inductance_accuracy_pct": 20,
+        "wire_length_per_phase_m": _r(pr.wire_length_per_phase_m, 2),
+        "copper_mass_kg": _r(pr.copper_mass_kg, 3),
+        "rated_rpm": pr.rated_rpm,
+        "max_rpm": pr.max_rpm,
+        "cut_in_rpm": _r(pr.cut_in_rpm, 1),
+        "cut_in_voltage_v": _r(pr.cut_in_voltage_v, 3),
+        "electrical_hz_at_rated": _r(pr.electrical_hz_at_rated, 3),
+        "open_circuit_phase_rms_v": _r(pr.open_circuit_phase_rms_v, 3),
+        "open_circuit_line_rms_v": _r(pr.open_circuit_line_rms_v, 3),
+        "open_circuit_line_rms_at_max_v": _r(pr.open_circuit_line_rms_at_max_v, 3),
+        "open_circuit_dc_peak_at_max_v": _r(pr.open_circuit_dc_peak_at_max_v, 3),
+        "phase_thd": _r(pr.phase_thd),
+        "line_thd": _r(pr.line_thd),
+        "geometric_pitch_factor": _r(design.geometric_pitch_factor),
+        "geometric_winding_factor": _r(
+            design.geometric_pitch_factor * design.layout.distribution_factor
+        ),
+        "rated_dc_voltage_v": _r(rated.dc_voltage_v, 3),
+        "rated_dc_current_a": _r(rated.dc_current_a, 3),
+        "rated_dc_power_w": _r(rated.dc_power_w, 2),
+        "efficiency": _r(rated.efficiency),
+        "rated_current_density_a_mm2": _r(rated.current_density_a_mm2, 3),
+        "rated_coil_temperature_c": _r(rated.coil_temperature_c, 1),
+        "curve": [
+            {
+                "rpm": _r(op.rpm, 2),
+                "dc_voltage_v": _r(op.dc_voltage_v, 3),
+                "dc_current_a": _r(op.dc_current_a, 4),
+                "dc_power_w": _r(op.dc_power_w, 3),
+                "efficiency": _r(op.efficiency),
+                "copper_loss_w": _r(op.copper_loss_w, 3),
+                "rectifier_loss_w": _r(op.rectifier_loss_w, 3),
+                "phase_current_rms_a": _r(op.phase_current_rms_a, 4),
+                "current_density_a_mm2": _r(op.current_density_a_mm2, 3),
+                "coil_temperature_c": _r(op.coil_temperature_c, 1),
+                "open_circuit_line_rms_v": _r(op.open_circuit_line_rms_v, 3),
+            }
+            for op in pr.curve
+        ],
+    }
+
+
+def magnetics_json(design: Design) -> dict:
+    f = design.forces
+    return {
+        "remanence_t": _r(design.geometry.remanence_t),
+        "airgap_peak_bz_t": _r(f.airgap_peak_bz_t),
+        "axial_force_n": _r(f.axial_force_n, 1),
+        "axial_force_kgf": _r(f.axial_force_n / 9.80665, 1),
+        "jacking_screws": f.jacking_screws,
+        "steel_peak_b_t": _r(f.steel_peak_b_t),
+        "steel_needed_mm": _r(f.steel_needed_mm, 2),
+        "magnet_pull_n": _r(f.magnet_pull_n, 1),
+        "image_order": design.flux.sources.image_order,
+        "hoop_stress_mpa": _r(f.hoop_stress_mpa, 3),
+        "hoop_safety_factor": _r(f.hoop_safety_factor, 2),
+        "disc_outer_diameter_mm": _r(2 * f.disc_outer_radius_mm, 2),
+        "magnet_mass_g": _r(f.magnet_mass_g, 2),
+    }
+
+
+def geometry_json(design: Design) -> dict:
+    geo = design.geometry
+    coils = []
+    for idx in geo.coil_indices:
+        outline, hole = geo.coil_polygons(idx)
+        coils.append(
+            {
+                "index": idx,
+                "outline_mm": [[_r(x, 4), _r(y, 4)] for x, y in outline],
+                "hole_mm": [[_r(x, 4), _r(y, 4)] for x, y in hole],
+                "z_min_mm": _r(geo.coil.z_min_mm, 4),
+                "z_max_mm": _r(geo.coil.z_max_mm, 4),
+            }
+        )
+    return {
+        "magnets": [
+            {
+                "disc": m.disc,
+                "shape": m.shape,
+                "center_mm": [_r(v, 4) for v in m.center_mm],
+                "dimension_mm": [_r(v, 4) for v in m.dimension_mm],
+                "rotation_deg": _r(m.rotation_deg, 6),
+                "polarization_t": _r(m.polarization_t, 6),
+            }
+            for m in geo.magnets
+        ],
+        "iron_planes_z_mm": [_r(z, 4) for z in geo.iron_planes_z_mm],
+        "stator_z_mm": [_r(z, 4) for z in geo.stator_z_mm],
+        "coil_leg_width_mm": _r(geo.coil.leg_width_mm, 3),
+        "coil_mean_turn_mm": _r(geo.coil.mean_turn_length_mm, 3),
+        "coil_span_deg": _r(geo.coil.span_deg, 4),
+        "coils": coils,
+    }
+
+
 def plan_json(design: Design) -> dict:
     spec = design.spec
     return {
         "name": spec.name,
         "purpose": spec.purpose,
         "layout": layout_json(design),
+        "electrical": electrical_json(design),
+        "magnetics": magnetics_json(design),
+        "geometry": geometry_json(design),
+        "warnings": [
+            {"code": w.code, "severity": w.severity, "message": w.message} for w in design.warnings
+        ],
     }
 
 
@@ -186,4 +308,106 @@ def plan_text(design: Design) -> str:
     if design.layout_notes:
         out.append("")
         out.extend(f"note: {n}" for n in design.layout_notes)
+    out += ["", _winding_text(design), "", _output_text(design), "", _magnetics_text(design)]
+    out += ["", _warnings_text(design)]
     return "\n".join(out)
+
+
+def _winding_text(design: Design) -> str:
+    pr, geo = design.prediction, design.geometry
+    wire = pr.wire.name + (f" x {pr.wire.strands} in hand" if pr.wire.strands > 1 else "")
+    rows = [
+        ["turns per coil", pr.turns_per_coil],
+        ["wire", f"{wire} ({pr.wire.diameter_mm:.3f} mm bare copper)"],
+        ["copper fill of the window", f"{pr.copper_fill:.2f}"],
+        [
+            "coil leg width / thickness",
+            f"{geo.coil.leg_width_mm:.1f} mm / {geo.coil.thickness_mm:.1f} mm",
+        ],
+        ["mean turn length", f"{geo.coil.mean_turn_length_mm:.0f} mm"],
+        ["coil resistance at 20 °C", f"{pr.coil_resistance_ohm:.3f} ohm"],
+        ["phase resistance at 20 °C", f"{pr.phase_resistance_ohm:.3f} ohm"],
+        ["phase inductance (Wheeler, ±20 %)", f"{pr.phase_inductance_mh:.2f} mH"],
+        ["wire per phase", f"{pr.wire_length_per_phase_m:.0f} m"],
+        ["geometric pitch factor", f"{design.geometric_pitch_factor:.3f}"],
+    ]
+    return table(["winding", "value"], rows)
+
+
+def _output_text(design: Design) -> str:
+    pr, spec = design.prediction, design.spec
+    ta = spec.target
+    if ta.kind == "battery":
+        what = (
+            f"battery {ta.battery_v:g} V, cut-in {pr.cut_in_rpm:.0f} rpm (target {ta.cut_in_rpm:g})"
+        )
+    elif ta.kind == "dc":
+        what = f"{ta.voltage_v:g} V DC at {ta.rated_current_a:g} A, {ta.rated_rpm:g} rpm (resistive load)"
+    else:
+        what = f"{ta.voltage_v:g} V AC line at {ta.rated_current_a:g} A, {ta.rated_rpm:g} rpm"
+    head = [
+        f"Output into {what}",
+        f"Open circuit at {ta.rated_rpm:g} rpm: {pr.open_circuit_phase_rms_v:.1f} V phase, "
+        f"{pr.open_circuit_line_rms_v:.1f} V line (rms), THD {pr.line_thd:.1%}; "
+        f"at {ta.max_rpm:g} rpm {pr.open_circuit_line_rms_at_max_v:.0f} V line",
+    ]
+    ac = ta.kind == "ac_line"
+    headings = [
+        "rpm",
+        "V_ac_line" if ac else "V_dc",
+        "I_line_a" if ac else "I_dc_a",
+        "P_w",
+        "copper_w",
+        "rectifier_w",
+        "efficiency",
+        "A/mm2",
+        "coil_c",
+    ]
+    rows = [
+        [
+            op.rpm,
+            op.dc_voltage_v,
+            op.dc_current_a,
+            op.dc_power_w,
+            op.copper_loss_w,
+            op.rectifier_loss_w,
+            op.efficiency,
+            op.current_density_a_mm2,
+            round(op.coil_temperature_c),
+        ]
+        for op in pr.curve
+    ]
+    return "\n".join(head) + "\n" + table(headings, rows)
+
+
+def _magnetics_text(design: Design) -> str:
+    f = design.forces
+    rows = [
+        ["peak Bz in the coils", f"{f.airgap_peak_bz_t:.3f} T"],
+        ["disc attraction", f"{f.axial_force_n:.0f} N ({f.axial_force_n / 9.80665:.0f} kgf)"],
+        ["jacking screws", "needed" if f.jacking_screws else "not needed"],
+        ["one magnet onto steel", f"{f.magnet_pull_n:.0f} N"],
+    ]
+    if f.steel_peak_b_t is not None:
+        rows.append(
+            [f"steel {f.steel_plate} flux density", f"{f.steel_peak_b_t:.2f} T (keep under 1.5 T)"]
+        )
+    rows.append(
+        [
+            "disc hoop stress at max rpm",
+            f"{f.hoop_stress_mpa:.2f} MPa (safety factor {f.hoop_safety_factor:.0f})",
+        ]
+    )
+    return table(["forces", "value"], rows)
+
+
+def _warnings_text(design: Design) -> str:
+    order = {"danger": 0, "warning": 1, "info": 2}
+    ws = sorted(design.warnings, key=lambda w: order[w.severity])
+    lines = ["Warnings and cautions"]
+    lines += [f"[{w.severity.upper()}] {w.code}: {w.message}" for w in ws]
+    lines.append(
+        "This is a design aid: check every figure before building, and defer to local codes "
+        "and licensed practice for anything connected to a building's wiring."
+    )
+    return "\n".join(lines)

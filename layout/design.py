@@ -4,9 +4,14 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from layout.emf import CoilLinkage, FluxMap, coil_linkage, flux_map, phase_emf
+from layout.forces import Forces, compute_forces
+from layout.geometry import Geometry, resolve_geometry
+from layout.model import Prediction, predict
 from layout.pairs import balanced_alternatives
+from layout.safety import Warning, collect_warnings
 from layout.spec import Spec
-from layout.winding import Layout, layout_notes, star_of_slots
+from layout.winding import Layout, layout_notes, span_pitch_factor, star_of_slots
 
 
 @dataclass(frozen=True)
@@ -14,6 +19,19 @@ class Design:
     spec: Spec
     layout: Layout
     layout_notes: tuple[str, ...]
+    geometry: Geometry
+    flux: FluxMap
+    linkage: CoilLinkage
+    prediction: Prediction
+    forces: Forces
+    warnings: tuple[Warning, ...]
+
+    @property
+    def geometric_pitch_factor(self) -> float:
+        """k_p of the coils as shaped, legs' centres `span_deg` apart."""
+        import math
+
+        return span_pitch_factor(self.layout.pole_pairs, math.radians(self.geometry.coil.span_deg))
 
 
 def winding_layout(spec: Spec) -> Layout:
@@ -52,5 +70,23 @@ def winding_layout(spec: Spec) -> Layout:
 
 
 def compute_design(spec: Spec) -> Design:
+    """Layout, field, EMF, winding and output, forces and warnings for one design."""
     lay = winding_layout(spec)
-    return Design(spec=spec, layout=lay, layout_notes=tuple(layout_notes(lay)))
+    geo = resolve_geometry(spec, tuple(c.index for c in lay.coils))
+    fmap = flux_map(geo, spec.magnets.count)
+    link = coil_linkage(geo, fmap, spec.magnets.count)
+    emf = phase_emf(link, lay, spec.connection.kind)
+    pred = predict(spec, geo, lay, emf)
+    forces = compute_forces(spec, geo, fmap.sources, fmap.peak_bz_t)
+    warnings = collect_warnings(spec, lay, pred, forces)
+    return Design(
+        spec=spec,
+        layout=lay,
+        layout_notes=tuple(layout_notes(lay)),
+        geometry=geo,
+        flux=fmap,
+        linkage=link,
+        prediction=pred,
+        forces=forces,
+        warnings=tuple(warnings),
+    )

@@ -1,0 +1,173 @@
+"""Forces and stresses: disc attraction, steel flux density, hoop stress, magnet pull."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from layout.field import Sources, bz
+from layout.geometry import Geometry
+from layout.materials import DISC_MATERIALS, MAGNET_GRADES
+from layout.spec import Spec, magnet_radial_extent_mm, magnet_tangential_extent_mm
+
+MU0 = 4e-7 * math.pi
+G = 9.80665
+STEEL_B_LIMIT_T = 1.5  # mild steel stays well below saturation (common practice)
+JACKING_FORCE_N = (
+    150.0  # above ~15 kgf the discs cannot be lowered together by hand safely (common practice)
+)
+HOOP_SAFETY_FACTOR = 3.0  # against yield or tensile strength for a spinning disc (common practice)
+
+
+@dataclass(frozen=True)
+class Forces:
+    axial_force_n: float  # attraction between the discs, or disc and stator plate
+    jacking_screws: bool
+    steel_peak_b_t: float | None  # largest mean flux density in a steel plate
+    steel_needed_mm: float | None  # plate thickness for STEEL_B_LIMIT_T
+    steel_plate: str | None  # which plate that is
+    disc_outer_radius_mm: float
+    disc_mass_kg: float  # one disc without magnets
+    magnet_mass_g: float  # one magnet
+    hoop_stress_mpa: float  # at the bore, at max_rpm, disc plus magnet load
+    hoop_safety_factor: float
+    magnet_pull_n: float  # one magnet pulled onto steel at contact
+    airgap_peak_bz_t: float
+
+
+def disc_outer_radius_mm(spec: Spec) -> float:
+    """The design's, or the magnets' outer edge plus a 10 mm rim (our default)."""
+    if spec.rotor.disc_outer_diameter_mm is not None:
+        return spec.rotor.disc_outer_diameter_mm / 2
+    return spec.magnets.pitch_radius_mm + magnet_radial_extent_mm(spec.magnets) / 2 + 10.0
+
+
+def magnet_mass_g(spec: Spec) -> float:
+    mg = spec.magnets
+    if mg.shape == "block":
+        vol_mm3 = mg.length_mm * mg.width_mm * mg.thickness_mm
+    else:
+        vol_mm3 = math.pi * mg.diameter_mm**2 / 4 * mg.thickness_mm
+    density = MAGNET_GRADES[mg.grade].density_g_cm3 if mg.grade else 7.5
+    return vol_mm3 * 1e-3 * density
+
+
+def _pole_grid(spec: Spec, z: float, nr: int = 16, nt: int = 10):
+    """Cell centres and areas (mm²) over one pole pitch, across the magnets' radial band."""
+    mg = spec.magnets
+    half = magnet_radial_extent_mm(mg) / 2 + 2 * spec.rotor.running_clearance_mm + 5.0
+    r0, r1 = max(mg.pitch_radius_mm - half, 1e-3), mg.pitch_radius_mm + half
+    dr = (r1 - r0) / nr
+    r = r0 + dr * (np.arange(nr) + 0.5)
+    pole = 2 * math.pi / mg.count
+    dt = pole / nt
+    t = -pole / 2 + dt * (np.arange(nt) + 0.5)
+    rr, tt = np.meshgrid(r, t, indexing="ij")
+    pts = np.stack([rr * np.cos(tt), rr * np.sin(tt), np.full(rr.shape, z)], axis=-1).reshape(-1, 3)
+    return pts, (rr * dr * dt).ravel()
+
+
+def hoop_stress_mpa(density_kg_m3, poisson, omega, r_out_m, r_in_m) -> float:
+    """Largest hoop stress of a spinning annular disc, at the bore.
+
+    σ = (3+ν)/4·ρω²·[R_o² + (1−ν)/(3+ν)·R_i²] (Timoshenko & Goodier, Theory of Elasticity;
+    Roark's Formulas for Stress and Strain).
+    """
+    nu = poisson
+    s = (3 + nu) / 4 * density_kg_m3 * omega**2 * (r_out_m**2 + (1 - nu) / (3 + nu) * r_in_m**2)
+    return s / 1e6
+
+
+def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t: float) -> Forces:
+    ro, mg = spec.rotor, spec.magnets
+    # Maxwell stress on a plane where the tangential field vanishes gives the whole
+    # attraction: the mid-plane of two equal discs, or the steel plate's face.
+    if ro.topology == "two_discs":
+        plane = 0.0
+    elif ro.topology == "one_disc_steel_stator":
+        plane = geo.iron_planes_z_mm[-1] - 1e-3
+    else:
+        plane = None
+    force = 0.0
+    if plane is not None:
+        pts, area = _pole_grid(spec, plane)
+        b = bz(sources, pts)
+        force = float((b**2 * area).sum() * 1e-6 / (2 * MU0) * mg.count)
+    # Flux per pole splits both ways into the plate behind it.
+    plates = []
+    if DISC_MATERIALS[ro.disc_material].magnetic:
+        back = geo.iron_planes_z_mm[0] + 1e-3
+        plates.append(("rotor disc", back, ro.disc_thickness_mm))
+    if ro.topology == "one_disc_steel_stator":
+        plates.append(
+            ("stator plate", geo.iron_planes_z_mm[-1] - 1e-3, ro.stator_plate_thickness_mm)
+        )
+    steel_b = steel_need = None
+    steel_name = None
+    width = magnet_radial_extent_mm(mg)
+    for name, z, thick in plates:
+        pts, area = _pole_grid(spec, z)
+        b = bz(sources, pts)
+        flux = float(np.abs((b * area).sum())) * 1e-6  # Wb per pole
+        b_plate = flux / (2 * thick * 1e-3 * width * 1e-3)
+        if steel_b is None or b_plate > steel_b:
+            steel_b, steel_name = b_plate, name
+            steel_need = flux / (2 * STEEL_B_LIMIT_T * width * 1e-3) * 1e3
+    mat = DISC_MATERIALS[ro.disc_material]
+    r_out = disc_outer_radius_mm(spec)
+    r_in = ro.bore_diameter_mm / 2
+    omega = spec.target.max_rpm * 2 * math.pi / 60
+    disc_vol_m3 = math.pi * (r_out**2 - r_in**2) * ro.disc_thickness_mm * 1e-9
+    sigma = hoop_stress_mpa(mat.density_g_cm3 * 1000, mat.poisson, omega, r_out * 1e-3, r_in * 1e-3)
+    m_mag = magnet_mass_g(spec)
+    # Magnets as a rim load: their total outward pull carried as hoop force by the disc's
+    # radial section (thin-ring approximation, conservative for a solid disc).
+    ring_force = mg.count * m_mag * 1e-3 * omega**2 * mg.pitch_radius_mm * 1e-3 / (2 * math.pi)
+    sigma += ring_force / (ro.disc_thickness_mm * (r_out - r_in) * 1e-6) / 1e6
+    safety = mat.strength_mpa / sigma if sigma > 0 else math.inf
+    return Forces(
+        axial_force_n=force,
+        jacking_screws=force > JACKING_FORCE_N,
+        steel_peak_b_t=steel_b,
+        steel_needed_mm=steel_need,
+        steel_plate=steel_name,
+        disc_outer_radius_mm=r_out,
+        disc_mass_kg=disc_vol_m3 * mat.density_g_cm3 * 1000,
+        magnet_mass_g=m_mag,
+        hoop_stress_mpa=sigma,
+        hoop_safety_factor=safety,
+        magnet_pull_n=magnet_pull_n(spec),
+        airgap_peak_bz_t=airgap_peak_bz_t,
+    )
+
+
+def magnet_pull_n(spec: Spec) -> float:
+    """One magnet pulled flat onto steel: Maxwell stress B²/(2μ0) over its face at contact.
+
+    In contact, the magnet and its image in the steel act as one magnet twice as thick;
+    the contact face is its mid-plane, where the normal flux density crosses into the steel.
+    """
+    from layout.geometry import remanence_t
+
+    mg = spec.magnets
+    a, b, h = magnet_radial_extent_mm(mg), magnet_tangential_extent_mm(mg), mg.thickness_mm
+    n = 10
+    xs = (np.arange(n) + 0.5) / n - 0.5
+    xx, yy = np.meshgrid(xs * a, xs * b, indexing="ij")
+    inside = (
+        np.ones(xx.shape, bool) if mg.shape == "block" else (xx / a) ** 2 + (yy / b) ** 2 <= 0.25
+    )
+    pts = np.stack([xx[inside], yy[inside], np.zeros(inside.sum())], axis=-1)
+    src = Sources(
+        block=np.array([mg.shape == "block"]),
+        center_mm=np.array([[0.0, 0.0, 0.0]]),
+        dimension_mm=np.array([[a, b, 2 * h] if mg.shape == "block" else [a, 2 * h, 0.0]]),
+        rotation_rad=np.zeros(1),
+        polarization_t=np.array([remanence_t(spec)]),
+        image_order=0,
+    )
+    field = bz(src, pts)
+    cell = (a / n) * (b / n) * 1e-6
+    return float((field**2).sum() * cell / (2 * MU0))

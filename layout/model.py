@@ -1,0 +1,333 @@
+"""Turns and wire from the target, resistance and inductance, and the output curve.
+
+The EMF comes from `emf` per turn and per rad/s; everything here scales it by turns and
+speed, sizes the copper into the coil window and runs the rectifier model of `circuit`.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from layout.circuit import Load, simulate_rectifier
+from layout.emf import PhaseEmf, rms, thd
+from layout.geometry import Geometry
+from layout.spec import Spec
+from layout.winding import Layout
+from layout.wire import (
+    Wire,
+    choose_wire,
+    coil_resistance_ohm,
+    copper_resistivity,
+    wheeler_inductance_h,
+)
+
+# Heat leaves the stator's two faces; a rotor turning a few mm away stirs the air. A film
+# coefficient of about 20 W/(m²·K) is a rough figure for that (from memory); the estimate
+# is meant to flag trouble, not to replace a temperature test.
+FACE_HEAT_TRANSFER_W_M2K = 20.0
+CURVE_POINTS = 24
+_CONNECTION = {"star": "star", "delta": "delta", "single_phase": "single"}
+
+
+@dataclass(frozen=True)
+class OperatingPoint:
+    rpm: float
+    dc_voltage_v: float
+    dc_current_a: float
+    dc_power_w: float
+    copper_loss_w: float
+    rectifier_loss_w: float
+    efficiency: float
+    phase_current_rms_a: float
+    current_density_a_mm2: float
+    coil_temperature_c: float
+    open_circuit_line_rms_v: float
+
+
+@dataclass(frozen=True)
+class Prediction:
+    turns_per_coil: int
+    wire: Wire
+    series_coils: int  # coils in series in one path
+    parallel_paths: int
+    coil_resistance_ohm: float  # 20 °C
+    phase_resistance_ohm: float  # 20 °C, one phase winding with its paths
+    coil_inductance_mh: float
+    phase_inductance_mh: float
+    copper_fill: float  # copper area / window actually used
+    wire_length_per_phase_m: float
+    copper_mass_kg: float  # all coils
+    rated_rpm: float
+    max_rpm: float
+    cut_in_rpm: float
+    cut_in_voltage_v: float  # rectified open-circuit voltage that defines cut-in
+    open_circuit_phase_rms_v: float  # at rated_rpm
+    open_circuit_line_rms_v: float  # at rated_rpm
+    open_circuit_line_rms_at_max_v: float
+    open_circuit_dc_peak_at_max_v: float  # rectified (peak line) at max_rpm
+    phase_thd: float
+    line_thd: float
+    emf: PhaseEmf  # per turn per rad/s
+    rated: OperatingPoint
+    curve: tuple[OperatingPoint, ...]
+    electrical_hz_at_rated: float
+
+    def phase_emf_v(self, rpm: float) -> np.ndarray:
+        """Open-circuit EMF of each phase over one electrical period at `rpm`."""
+        return self.emf.phase_v * self.turns_per_coil * rpm * 2 * math.pi / 60
+
+    def line_emf_v(self, rpm: float) -> np.ndarray:
+        return self.emf.line_v * self.turns_per_coil * rpm * 2 * math.pi / 60
+
+
+def _omega(rpm):
+    return np.asarray(rpm, dtype=float) * 2 * math.pi / 60
+
+
+def _copper(spec: Spec, geo: Geometry, layout: Layout, turns: int):
+    """Wire, R at 20 °C and L of a coil and a phase, for `turns` per coil; None if no wire fits."""
+    st = spec.stator
+    area = st.fill_factor * geo.coil.window_mm2 / turns
+    wire = choose_wire(area, st.wire_standard, st.max_wire_diameter_mm)
+    if wire is None:
+        return None
+    r_coil = coil_resistance_ohm(turns, geo.coil.mean_turn_length_mm, wire)
+    l_coil = wheeler_inductance_h(
+        turns,
+        geo.coil.mean_turn_length_mm / (2 * math.pi),
+        geo.coil.thickness_mm,
+        geo.coil.leg_width_mm,
+    )
+    n_ser = layout.series_coils_per_path
+    a = layout.parallel_paths
+    return wire, r_coil, l_coil, n_ser * r_coil / a, n_ser * l_coil / a
+
+
+def _rectified_peak_per_turn(emf: PhaseEmf) -> float:
+    """Peak of the bridge's open-circuit output per turn per rad/s: the largest line voltage."""
+    return float(np.abs(emf.line_v).max())
+
+
+def _cooling_area_m2(geo: Geometry, spec: Spec) -> float:
+    r0, r1 = geo.coil.r_min_mm, geo.coil.r_max_mm
+    return 2 * math.pi * (r1**2 - r0**2) * 1e-6
+
+
+def _curve_rpms(spec: Spec, cut_in: float) -> np.ndarray:
+    ta = spec.target
+    lo = 0.5 * cut_in if ta.kind == "battery" else 0.2 * ta.rated_rpm
+    rpms = np.linspace(lo, ta.max_rpm, CURVE_POINTS)
+    return np.unique(np.round(np.concatenate([rpms, [ta.rated_rpm]])))
+
+
+def _simulate(spec, layout, emf, turns, r20_phase, l_phase, rpms, load: Load, temps_c):
+    """Bridge output at each rpm with the phase resistance at each point's temperature."""
+    p = layout.pole_pairs
+    w = _omega(rpms)
+    waves = emf.phase_v[None, :, :] * (turns * w)[:, None, None]
+    alpha = copper_resistivity(np.asarray(temps_c)) / copper_resistivity(20.0)
+    return simulate_rectifier(
+        waves,
+        frequency_hz=p * np.asarray(rpms) / 60,
+        resistance_ohm=r20_phase * alpha,
+        inductance_h=l_phase,
+        connection=_CONNECTION[spec.connection.kind],
+        diode_drop_v=spec.target.diode_drop_v,
+        load=load,
+    )
+
+
+def _ac_line_output(spec, layout, emf, turns, r_phase, l_phase, rpm, load_ohm):
+    """Fundamental-frequency phasor solution for a balanced resistive star load per phase."""
+    w = _omega(rpm)
+    e_ph = rms(emf.phase_v[0]) * turns * w
+    x = w * layout.pole_pairs * l_phase
+    z = np.hypot(r_phase + load_ohm, x)
+    i_ph = e_ph / z
+    v_ph = i_ph * load_ohm
+    return e_ph, i_ph, v_ph
+
+
+def predict(spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf) -> Prediction:
+    """Size the winding for the target and predict its output over the speed range."""
+    ta = spec.target
+    vf = ta.diode_drop_v
+    star = spec.connection.kind == "star"
+    per_turn_peak = _rectified_peak_per_turn(emf)
+    if ta.kind == "battery":
+        v_cut = ta.battery_v + 2 * vf
+        turns = max(1, round(v_cut / (per_turn_peak * _omega(ta.cut_in_rpm))))
+        load = Load("battery", ta.battery_resistance_ohm, ta.battery_v)
+    elif ta.kind == "dc":
+        v_cut = ta.voltage_v + 2 * vf
+        turns = _turns_for_dc(spec, geo, layout, emf, per_turn_peak)
+        load = Load("resistor", ta.voltage_v / ta.rated_current_a)
+    else:
+        v_cut = ta.voltage_v * math.sqrt(2)
+        turns = _turns_for_ac(spec, geo, layout, emf)
+        load = None
+    cu = _copper(spec, geo, layout, turns)
+    if cu is None:
+        raise spec.fail(
+            "stator.wire_standard",
+            spec.stator.wire_standard,
+            f"no standard wire fits {turns} turns in the coil window; "
+            "raise stator.thickness_mm or magnets.pitch_radius_mm",
+        )
+    wire, r_coil, l_coil, r_phase, l_phase = cu
+    cut_in = v_cut / (per_turn_peak * turns) * 60 / (2 * math.pi)
+    rpms = _curve_rpms(spec, cut_in)
+    ambient = ta.ambient_c
+    area = _cooling_area_m2(geo, spec)
+    n_coils = len(layout.coils)
+    phases = layout.phases
+    line_rms_per = float(rms(emf.line_v[0])) * turns
+    if load is not None:
+        temps = np.full(len(rpms), ambient)
+        for _ in range(3):  # resistance and temperature settle in a few passes
+            res = _simulate(spec, layout, emf, turns, r_phase, l_phase, rpms, load, temps)
+            temps = ambient + res.copper_loss_w / (FACE_HEAT_TRANSFER_W_M2K * area)
+        dc_v, dc_i, dc_p = res.dc_voltage_v, res.dc_current_a, res.dc_power_w
+        cu_w, rect_w = res.copper_loss_w, res.rectifier_loss_w
+        i_ph = res.phase_current_rms_a
+        src = res.source_power_w
+    else:
+        temps = np.full(len(rpms), ambient)
+        load_ohm = (ta.voltage_v / math.sqrt(3) if star else ta.voltage_v) / (
+            ta.rated_current_a if star else ta.rated_current_a / math.sqrt(3)
+        )
+        for _ in range(3):
+            r_hot = r_phase * copper_resistivity(temps) / copper_resistivity(20.0)
+            e_ph, i_ph, v_ph = _ac_line_output(
+                spec, layout, emf, turns, r_hot, l_phase, rpms, load_ohm
+            )
+            cu_w = phases * i_ph**2 * r_hot
+            temps = ambient + cu_w / (FACE_HEAT_TRANSFER_W_M2K * area)
+        dc_p = phases * i_ph**2 * load_ohm
+        dc_v = v_ph * (math.sqrt(3) if star else 1.0)  # line voltage
+        dc_i = i_ph * (1.0 if star else math.sqrt(3))  # line current
+        rect_w = np.zeros(len(rpms))
+        src = dc_p + cu_w
+    eff = np.where(src > 1e-9, dc_p / np.maximum(src, 1e-12), 0.0)
+    density = i_ph / layout.parallel_paths / wire.copper_mm2
+    curve = tuple(
+        OperatingPoint(
+            rpm=float(rpms[k]),
+            dc_voltage_v=float(dc_v[k]),
+            dc_current_a=float(dc_i[k]),
+            dc_power_w=float(dc_p[k]),
+            copper_loss_w=float(cu_w[k]),
+            rectifier_loss_w=float(rect_w[k]),
+            efficiency=float(eff[k]),
+            phase_current_rms_a=float(i_ph[k]),
+            current_density_a_mm2=float(density[k]),
+            coil_temperature_c=float(temps[k]),
+            open_circuit_line_rms_v=float(line_rms_per * _omega(rpms[k])),
+        )
+        for k in range(len(rpms))
+    )
+    rated = min(curve, key=lambda op: abs(op.rpm - ta.rated_rpm))
+    w_rated, w_max = _omega(ta.rated_rpm), _omega(ta.max_rpm)
+    mlt_m = geo.coil.mean_turn_length_mm / 1000
+    n_phase_coils = layout.coils_per_phase[0]
+    copper_m3 = n_coils * turns * mlt_m * wire.copper_mm2 * 1e-6
+    return Prediction(
+        turns_per_coil=turns,
+        wire=wire,
+        series_coils=layout.series_coils_per_path,
+        parallel_paths=layout.parallel_paths,
+        coil_resistance_ohm=r_coil,
+        phase_resistance_ohm=r_phase,
+        coil_inductance_mh=l_coil * 1e3,
+        phase_inductance_mh=l_phase * 1e3,
+        copper_fill=turns * wire.copper_mm2 / geo.coil.window_mm2,
+        wire_length_per_phase_m=n_phase_coils * turns * mlt_m * wire.strands,
+        copper_mass_kg=copper_m3 * 8890.0,
+        rated_rpm=ta.rated_rpm,
+        max_rpm=ta.max_rpm,
+        cut_in_rpm=cut_in,
+        cut_in_voltage_v=v_cut,
+        open_circuit_phase_rms_v=float(rms(emf.phase_v[0])) * turns * float(w_rated),
+        open_circuit_line_rms_v=line_rms_per * float(w_rated),
+        open_circuit_line_rms_at_max_v=line_rms_per * float(w_max),
+        open_circuit_dc_peak_at_max_v=per_turn_peak * turns * float(w_max),
+        phase_thd=thd(emf.phase_v[0]),
+        line_thd=thd(emf.line_v[0]),
+        emf=emf,
+        rated=rated,
+        curve=curve,
+        electrical_hz_at_rated=layout.pole_pairs * ta.rated_rpm / 60,
+    )
+
+
+def _turns_for_dc(spec, geo, layout, emf, per_turn_peak) -> int:
+    """Fewest turns that deliver target.voltage_v at rated_current_a and rated_rpm."""
+    ta = spec.target
+    load = Load("resistor", ta.voltage_v / ta.rated_current_a)
+
+    def volts(n: int) -> float | None:
+        cu = _copper(spec, geo, layout, n)
+        if cu is None:
+            return None
+        res = _simulate(
+            spec, layout, emf, n, cu[3], cu[4], np.array([ta.rated_rpm]), load, [ta.ambient_c]
+        )
+        return float(res.dc_voltage_v[0])
+
+    return _fewest_turns(
+        spec, volts, (ta.voltage_v + 2 * ta.diode_drop_v) / (per_turn_peak * _omega(ta.rated_rpm))
+    )
+
+
+def _turns_for_ac(spec, geo, layout, emf) -> int:
+    ta = spec.target
+    star = spec.connection.kind == "star"
+    v_ph = ta.voltage_v / math.sqrt(3) if star else ta.voltage_v
+    i_ph = ta.rated_current_a if star else ta.rated_current_a / math.sqrt(3)
+
+    def volts(n: int) -> float | None:
+        cu = _copper(spec, geo, layout, n)
+        if cu is None:
+            return None
+        _, _, v = _ac_line_output(spec, layout, emf, n, cu[3], cu[4], ta.rated_rpm, v_ph / i_ph)
+        return float(v) * (ta.voltage_v / v_ph)
+
+    e_turn = float(rms(emf.phase_v[0])) * float(_omega(ta.rated_rpm))
+    return _fewest_turns(spec, volts, v_ph / e_turn)
+
+
+def _fewest_turns(spec, volts, start: float) -> int:
+    """Smallest N with volts(N) ≥ target.
+
+    The loaded voltage rises with N, peaks when the winding's resistance grows (as N²)
+    towards the load's, then falls; `start` (the open-circuit estimate) lies on the rising
+    side, so grow geometrically until the target is met, then bisect.
+    """
+    target = spec.target.voltage_v
+    lo, hi = 0, max(1, math.ceil(start))
+    v_prev = -1.0
+    while True:
+        v = volts(hi)
+        if v is not None and v >= target:
+            break
+        if v is None or v <= v_prev:
+            best = max(v_prev, v or 0.0)
+            raise spec.fail(
+                "target.voltage_v",
+                target,
+                f"this machine gives at most about {best:.1f} V at {spec.target.rated_current_a:g} A "
+                f"and {spec.target.rated_rpm:g} rpm; lower the current, raise the speed or use "
+                "larger magnets",
+            )
+        lo, v_prev, hi = hi, v, max(hi + 1, math.ceil(hi * 1.3))
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        v = volts(mid)
+        if v is not None and v >= target:
+            hi = mid
+        else:
+            lo = mid
+    return hi

@@ -1,0 +1,178 @@
+"""Warnings: what could hurt someone or the machine, each saying what to change.
+
+Severity: "danger" (can injure or kill), "warning" (the machine may fail or underperform),
+"info" (worth knowing). Codes are stable names for scripts.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from layout.forces import HOOP_SAFETY_FACTOR, JACKING_FORCE_N, STEEL_B_LIMIT_T, Forces, G
+from layout.materials import DISC_MATERIALS, MAGNET_GRADES, STATOR_BINDERS_MAX_C
+from layout.model import Prediction
+from layout.spec import Spec
+from layout.winding import Layout
+
+# Extra-low voltage limits, IEC 61140: 50 V AC rms, 120 V ripple-free DC.
+ELV_AC_V = 50.0
+ELV_DC_V = 120.0
+CURRENT_DENSITY_STILL_AIR_A_MM2 = 5.0  # hand-wound coils in still air: 3–5 A/mm² (common practice)
+CURRENT_DENSITY_CAST_A_MM2 = 4.0  # coils cast in resin shed heat worse (common practice)
+PACEMAKER_DISTANCE_MM = 150  # keep strong magnets this far from implants (from memory)
+DEFER = "follow local codes and have a licensed electrician check the installation"
+
+
+@dataclass(frozen=True)
+class Warning:
+    code: str
+    severity: str
+    message: str
+
+
+def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Forces) -> list[Warning]:
+    out: list[Warning] = []
+    ta = spec.target
+
+    def add(code, severity, message):
+        out.append(Warning(code, severity, message))
+
+    v_ac = pred.open_circuit_line_rms_at_max_v
+    v_dc = pred.open_circuit_dc_peak_at_max_v
+    if v_ac > ELV_AC_V or v_dc > ELV_DC_V:
+        add(
+            "voltage.above_elv",
+            "danger",
+            f"Open-circuit voltage at {ta.max_rpm:g} rpm is {v_ac:.0f} V AC line ({v_dc:.0f} V "
+            f"rectified), above extra-low voltage (IEC 61140: {ELV_AC_V:g} V AC, {ELV_DC_V:g} V DC): "
+            "a shock can kill. Enclose terminals and rectifier, fit a dump load or brake so the "
+            f"machine cannot run away unloaded, and {DEFER}.",
+        )
+    else:
+        add(
+            "voltage.open_circuit",
+            "info",
+            f"Open-circuit voltage at {ta.max_rpm:g} rpm is {v_ac:.0f} V AC line ({v_dc:.0f} V "
+            "rectified), within extra-low voltage; it rises with speed, so never let the "
+            f"machine run faster unloaded, and {DEFER}.",
+        )
+    if forces.hoop_safety_factor < HOOP_SAFETY_FACTOR:
+        mat = DISC_MATERIALS[spec.rotor.disc_material]
+        add(
+            "disc.hoop_stress",
+            "danger",
+            f"The {mat.name} rotor disc reaches {forces.hoop_stress_mpa:.1f} MPa at {ta.max_rpm:g} rpm, "
+            f"a safety factor of {forces.hoop_safety_factor:.1f} on {mat.strength_mpa:g} MPa "
+            f"(want {HOOP_SAFETY_FACTOR:g}); a burst disc throws fragments. Use a stronger "
+            "material, a thicker disc or a lower target.max_rpm.",
+        )
+    binder_max = STATOR_BINDERS_MAX_C[spec.stator.binder]
+    rated = pred.rated
+    top = pred.curve[-1]
+    hot = rated
+    if rated.coil_temperature_c > binder_max:
+        add(
+            "coil.temperature",
+            "warning",
+            f"Coils reach about {rated.coil_temperature_c:.0f} °C at {rated.rpm:g} rpm (rough "
+            f"estimate), over the {binder_max:g} °C that {spec.stator.binder} takes: it softens "
+            "and coils shift. Use thicker wire (fewer turns with more magnet), a bigger coil "
+            "window, or a lower rated speed.",
+        )
+    if top.coil_temperature_c > binder_max and top.rpm > rated.rpm:
+        add(
+            "coil.overspeed_heat",
+            "warning",
+            f"Loaded at {top.rpm:g} rpm the coils would reach about {top.coil_temperature_c:.0f} °C "
+            f"(rough estimate), over the {binder_max:g} °C of {spec.stator.binder}: limit the "
+            "current above the rated speed (controller, furling, governor) or it burns out.",
+        )
+    cast = spec.stator.binder in ("epoxy", "polyester")
+    limit = CURRENT_DENSITY_CAST_A_MM2 if cast else CURRENT_DENSITY_STILL_AIR_A_MM2
+    if rated.current_density_a_mm2 > limit:
+        add(
+            "coil.current_density",
+            "warning",
+            f"Current density at {rated.rpm:g} rpm is {rated.current_density_a_mm2:.1f} A/mm², above "
+            f"the {limit:g} A/mm² rule of thumb for {'cast' if cast else 'open'} coils: they run "
+            "hot. Raise stator.fill_factor or stator.thickness_mm, or use parallel paths.",
+        )
+    grade_max = spec.magnets.max_temperature_c or (
+        MAGNET_GRADES[spec.magnets.grade].max_temperature_c if spec.magnets.grade else 80.0
+    )
+    if hot.coil_temperature_c > grade_max:
+        add(
+            "magnet.temperature",
+            "warning",
+            f"Coils at about {hot.coil_temperature_c:.0f} °C sit a few mm from magnets rated to "
+            f"{grade_max:g} °C: they can lose strength for good. Choose a higher-temperature "
+            "grade (H, SH) or cut the copper loss.",
+        )
+    add(
+        "magnet.pinch",
+        "danger",
+        f"Each magnet pulls about {forces.magnet_pull_n:.0f} N ({forces.magnet_pull_n / G:.0f} kgf) "
+        "onto steel and snaps to its neighbours: it crushes fingers and chips. Handle one at a "
+        "time, slide rather than lift, keep spacers between them, wear eye protection.",
+    )
+    add(
+        "magnet.pacemaker",
+        "danger",
+        "Strong magnets upset pacemakers and other implants: anyone with one keeps at least "
+        f"{PACEMAKER_DISTANCE_MM} mm away from loose magnets and finished rotors.",
+    )
+    if forces.axial_force_n > 0:
+        kgf = forces.axial_force_n / G
+        if forces.jacking_screws:
+            add(
+                "rotor.jacking_screws",
+                "danger",
+                f"The discs attract with about {forces.axial_force_n:.0f} N ({kgf:.0f} kgf), more "
+                f"than can be held by hand (over {JACKING_FORCE_N:g} N): lower them together on "
+                "jacking screws, never by hand.",
+            )
+        else:
+            add(
+                "rotor.attraction",
+                "info",
+                f"The discs attract with about {forces.axial_force_n:.0f} N ({kgf:.0f} kgf); "
+                "bring them together slowly and keep fingers out of the gap.",
+            )
+    if forces.steel_peak_b_t is not None and forces.steel_peak_b_t > STEEL_B_LIMIT_T:
+        add(
+            "steel.saturation",
+            "warning",
+            f"The steel {forces.steel_plate} carries about {forces.steel_peak_b_t:.2f} T, above "
+            f"{STEEL_B_LIMIT_T:g} T: it saturates and the output falls. Make it at least "
+            f"{forces.steel_needed_mm:.1f} mm thick.",
+        )
+    if layout.unbalanced_pull:
+        add(
+            "layout.unbalanced_pull",
+            "info",
+            f"{layout.coil_positions} coils with {layout.magnets} magnets have no rotational "
+            "symmetry: the magnetic pull on the rotor is not balanced round the shaft. Small in a "
+            "coreless stator; use a stiff shaft and good bearings.",
+        )
+    if ta.kind == "battery" and abs(pred.cut_in_rpm / ta.cut_in_rpm - 1) > 0.1:
+        add(
+            "turns.cut_in",
+            "warning",
+            f"With {pred.turns_per_coil} whole turns the cut-in is {pred.cut_in_rpm:.0f} rpm, "
+            f"not {ta.cut_in_rpm:g}: turns are too few to set it finely. Use more coils in series "
+            "(fewer parallel paths) or smaller magnets.",
+        )
+    if rated.efficiency < 0.7 and rated.dc_power_w > 0:
+        add(
+            "output.low_efficiency",
+            "warning",
+            f"Efficiency at {rated.rpm:g} rpm is {rated.efficiency:.0%}: copper and rectifier "
+            "losses eat the output. Raise the cut-in speed, use thicker wire or stronger magnets.",
+        )
+    add(
+        "rotor.spinning",
+        "info",
+        "Spinning discs store energy: guard the rotor, balance it first, make the first spins "
+        "slow and stand out of the disc's plane.",
+    )
+    return out
