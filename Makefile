@@ -16,9 +16,16 @@ $(STAMP): pyproject.toml
 	$(BIN)/python -m pip install --quiet -e '.[test]'
 	touch $(STAMP)
 
+DEMO_OUT := out/$(notdir $(DEMO:.toml=))
+
 demo: venv
-	mkdir -p out
-	$(BIN)/statorsmith plan $(DEMO) | tee out/$(notdir $(DEMO:.toml=))-plan.txt
+	mkdir -p $(DEMO_OUT)
+	$(BIN)/statorsmith plan $(DEMO) --json > $(DEMO_OUT)/plan.json.tmp
+	$(BIN)/statorsmith plan $(DEMO) > $(DEMO_OUT)/plan.txt.tmp
+	mv $(DEMO_OUT)/plan.json.tmp $(DEMO_OUT)/plan.json
+	mv $(DEMO_OUT)/plan.txt.tmp $(DEMO_OUT)/plan.txt
+	cat $(DEMO_OUT)/plan.txt
+	@echo "written: $(DEMO_OUT)/plan.txt, $(DEMO_OUT)/plan.json"
 
 test: venv
 	$(BIN)/python -m pytest
@@ -31,4 +38,4 @@ bench: venv
 	$(BIN)/python bench/plan_speed.py
 
 clean:
-	rm -rf $(VENV) out/*/ out/*.txt
+	rm -rf $(VENV) out/*/

@@ -166,9 +166,7 @@ def electrical_json(design: Design) -> dict:
         "phase_thd": _r(pr.phase_thd),
         "line_thd": _r(pr.line_thd),
         "geometric_pitch_factor": _r(design.geometric_pitch_factor),
-        "geometric_winding_factor": _r(
-            design.geometric_pitch_factor * design.layout.distribution_factor
-        ),
+        "geometric_winding_factor": _r(design.geometric_pitch_factor * design.layout.distribution_factor),
         "rated_dc_voltage_v": _r(rated.dc_voltage_v, 3),
         "rated_dc_current_a": _r(rated.dc_current_a, 3),
         "rated_dc_power_w": _r(rated.dc_power_w, 2),
@@ -257,9 +255,7 @@ def plan_json(design: Design) -> dict:
         "electrical": electrical_json(design),
         "magnetics": magnetics_json(design),
         "geometry": geometry_json(design),
-        "warnings": [
-            {"code": w.code, "severity": w.severity, "message": w.message} for w in design.warnings
-        ],
+        "warnings": [{"code": w.code, "severity": w.severity, "message": w.message} for w in design.warnings],
     }
 
 
@@ -301,9 +297,7 @@ def plan_text(design: Design) -> str:
         ["cogging steps per rev", f"{lay.cogging_steps} (iron teeth only; none here)"],
     ]
     if lay.phases == 1:
-        figures.insert(
-            7, ["distribution factor as wound", f"{lay.as_wound_distribution_factor:.3f}"]
-        )
+        figures.insert(7, ["distribution factor as wound", f"{lay.as_wound_distribution_factor:.3f}"])
     out.append(table(["layout", "value"], figures))
     if design.layout_notes:
         out.append("")
@@ -338,9 +332,7 @@ def _output_text(design: Design) -> str:
     pr, spec = design.prediction, design.spec
     ta = spec.target
     if ta.kind == "battery":
-        what = (
-            f"battery {ta.battery_v:g} V, cut-in {pr.cut_in_rpm:.0f} rpm (target {ta.cut_in_rpm:g})"
-        )
+        what = f"battery {ta.battery_v:g} V, cut-in {pr.cut_in_rpm:.0f} rpm (target {ta.cut_in_rpm:g})"
     elif ta.kind == "dc":
         what = f"{ta.voltage_v:g} V DC at {ta.rated_current_a:g} A, {ta.rated_rpm:g} rpm (resistive load)"
     else:
@@ -389,9 +381,7 @@ def _magnetics_text(design: Design) -> str:
         ["one magnet onto steel", f"{f.magnet_pull_n:.0f} N"],
     ]
     if f.steel_peak_b_t is not None:
-        rows.append(
-            [f"steel {f.steel_plate} flux density", f"{f.steel_peak_b_t:.2f} T (keep under 1.5 T)"]
-        )
+        rows.append([f"steel {f.steel_plate} flux density", f"{f.steel_peak_b_t:.2f} T (keep under 1.5 T)"])
     rows.append(
         [
             "disc hoop stress at max rpm",

@@ -168,9 +168,7 @@ def _topology(connection: str) -> _Topology:
     for k, (out, into) in enumerate(ends):
         incidence[k, out] = 1.0
         incidence[k, into] = -1.0
-    states = np.array(
-        [s for s in itertools.product((1, -1, 0), repeat=n_terminals) if any(s)], dtype=float
-    )
+    states = np.array([s for s in itertools.product((1, -1, 0), repeat=n_terminals) if any(s)], dtype=float)
     return _Topology(n_terminals, incidence, states)
 
 
@@ -327,9 +325,7 @@ def _validate(
         raise ValueError(f"load must be a Load, got {type(load).__name__}")
     emf = np.asarray(phase_emf_v, dtype=float)
     if emf.ndim != 3:
-        raise ValueError(
-            f"phase_emf_v must have shape (n_points, n_phases, n_samples), got {emf.shape}"
-        )
+        raise ValueError(f"phase_emf_v must have shape (n_points, n_phases, n_samples), got {emf.shape}")
     n_points, n_phases, n_samples = emf.shape
     want_phases = 1 if connection == "single" else 3
     if n_phases != want_phases:
@@ -441,9 +437,7 @@ def simulate_rectifier(
     history_gain = (0.5 * ind / dt)[:, None]
     gain, offset = _state_maps(topo, r_comp, vf, load)
     # e_next[n] is the EMF at t[n+1], the instant step n solves for.
-    e_next = np.ascontiguousarray(
-        np.roll(_resample_periodic(emf, n_steps), -1, axis=-1).transpose(2, 0, 1)
-    )
+    e_next = np.ascontiguousarray(np.roll(_resample_periodic(emf, n_steps), -1, axis=-1).transpose(2, 0, 1))
     if connection == "delta":
         # KVL round the closed delta fixes its circulating current from the mean EMF alone,
         # and the line-line voltages the bridge sees lack that mean. So the bridge is

@@ -49,9 +49,7 @@ class CoilLinkage:
     harmonics: np.ndarray  # complex rfft coefficients of lambda_wb, scaled: λ = Re Σ c_ν e^{iνφe}
 
 
-def turn_weight(
-    hole_mm: np.ndarray, leg_width_mm: float, x: np.ndarray, y: np.ndarray
-) -> np.ndarray:
+def turn_weight(hole_mm: np.ndarray, leg_width_mm: float, x: np.ndarray, y: np.ndarray) -> np.ndarray:
     """Fraction of a coil's turns enclosing the points (x, y), coil frame, in [0, 1].
 
     For a convex hole offset by mitred lines, the turn at offset s encloses a point iff
@@ -110,9 +108,7 @@ def _mirror_symmetric(geo: Geometry) -> bool:
     planes = geo.iron_planes_z_mm
     mirrored_planes = sorted(round(-p, 9) for p in planes) == sorted(round(p, 9) for p in planes)
     return (
-        zc == sorted(-z for z in zc)
-        and mirrored_planes
-        and abs(geo.coil.z_min_mm + geo.coil.z_max_mm) < 1e-9
+        zc == sorted(-z for z in zc) and mirrored_planes and abs(geo.coil.z_min_mm + geo.coil.z_max_mm) < 1e-9
     )
 
 
@@ -156,9 +152,7 @@ def coil_linkage(geo: Geometry, fmap: FluxMap, magnets: int) -> CoilLinkage:
     w_fold = np.zeros((len(fmap.r_mm), m))
     np.add.at(w_fold, (slice(None), np.mod(k, m)), w)
     # λ(φ_j) = Σ_r Σ_i W(r, θ_i) B(r, θ_i − φ_j): a circular cross-correlation per radius.
-    lam = np.fft.irfft(
-        (np.fft.rfft(w_fold, axis=1) * np.conj(np.fft.rfft(b_fine, axis=1))).sum(axis=0), n=m
-    )
+    lam = np.fft.irfft((np.fft.rfft(w_fold, axis=1) * np.conj(np.fft.rfft(b_fine, axis=1))).sum(axis=0), n=m)
     lam_wb = lam * 1e-6  # T·mm² → Wb
     # The correlation gives λ at rotor angle φ = j·dθ; reorder so sample j is φ = j·dθ.
     harmonics = np.fft.rfft(lam_wb) * 2 / m

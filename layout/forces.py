@@ -15,9 +15,7 @@ from layout.spec import Spec, magnet_radial_extent_mm, magnet_tangential_extent_
 MU0 = 4e-7 * math.pi
 G = 9.80665
 STEEL_B_LIMIT_T = 1.5  # mild steel stays well below saturation (common practice)
-JACKING_FORCE_N = (
-    150.0  # above ~15 kgf the discs cannot be lowered together by hand safely (common practice)
-)
+JACKING_FORCE_N = 150.0  # above ~15 kgf the discs cannot be lowered together by hand safely (common practice)
 HOOP_SAFETY_FACTOR = 3.0  # against yield or tensile strength for a spinning disc (common practice)
 
 
@@ -101,9 +99,7 @@ def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t
         back = geo.iron_planes_z_mm[0] + 1e-3
         plates.append(("rotor disc", back, ro.disc_thickness_mm))
     if ro.topology == "one_disc_steel_stator":
-        plates.append(
-            ("stator plate", geo.iron_planes_z_mm[-1] - 1e-3, ro.stator_plate_thickness_mm)
-        )
+        plates.append(("stator plate", geo.iron_planes_z_mm[-1] - 1e-3, ro.stator_plate_thickness_mm))
     steel_b = steel_need = None
     steel_name = None
     width = magnet_radial_extent_mm(mg)
@@ -156,9 +152,7 @@ def magnet_pull_n(spec: Spec) -> float:
     n = 10
     xs = (np.arange(n) + 0.5) / n - 0.5
     xx, yy = np.meshgrid(xs * a, xs * b, indexing="ij")
-    inside = (
-        np.ones(xx.shape, bool) if mg.shape == "block" else (xx / a) ** 2 + (yy / b) ** 2 <= 0.25
-    )
+    inside = np.ones(xx.shape, bool) if mg.shape == "block" else (xx / a) ** 2 + (yy / b) ** 2 <= 0.25
     pts = np.stack([xx[inside], yy[inside], np.zeros(inside.sum())], axis=-1)
     src = Sources(
         block=np.array([mg.shape == "block"]),

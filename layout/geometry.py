@@ -26,9 +26,7 @@ class Magnet:
     disc: int  # 1 lower (or only) disc, 2 upper disc
     shape: str  # "block" | "disc"
     center_mm: tuple[float, float, float]
-    dimension_mm: tuple[
-        float, ...
-    ]  # block (radial, tangential, thickness); disc (diameter, thickness)
+    dimension_mm: tuple[float, ...]  # block (radial, tangential, thickness); disc (diameter, thickness)
     rotation_deg: float  # about z
     polarization_t: float  # signed Br along +z
 
@@ -130,7 +128,8 @@ def coil_shape(spec: Spec, z_min_mm: float, z_max_mm: float) -> CoilShape:
             raise spec.fail(
                 "stator.hole_tangential_mm",
                 st.hole_tangential_mm,
-                f"the hole must hold the magnet; at least {2 * (rc * math.sin(beta) - delta_hole) / math.cos(beta):.1f}",
+                "the hole must hold the magnet; at least "
+                f"{2 * (rc * math.sin(beta) - delta_hole) / math.cos(beta):.1f}",
             )
         delta_hole = wanted
     half_radial = a / 2 + m
@@ -150,7 +149,8 @@ def coil_shape(spec: Spec, z_min_mm: float, z_max_mm: float) -> CoilShape:
         raise spec.fail(
             "stator.leg_width_mm",
             st.leg_width_mm,
-            f"neighbouring coils would touch; at most {leg_max:.1f} with stator.coil_clearance_mm = {st.coil_clearance_mm:g}",
+            f"neighbouring coils would touch; at most {leg_max:.1f} "
+            f"with stator.coil_clearance_mm = {st.coil_clearance_mm:g}",
         )
     if leg < MIN_LEG_WIDTH_MM:
         raise spec.fail(
@@ -196,10 +196,7 @@ def resolve_geometry(spec: Spec, coil_indices: tuple[int, ...]) -> Geometry:
             iron = iron + (s / 2,)
     z0, z1 = stator[0] + st.resin_cover_mm, stator[1] - st.resin_cover_mm
     coil = coil_shape(spec, z0, z1)
-    if mg.shape == "block":
-        dim = (mg.length_mm, mg.width_mm, h)
-    else:
-        dim = (mg.diameter_mm, h)
+    dim = (mg.length_mm, mg.width_mm, h) if mg.shape == "block" else (mg.diameter_mm, h)
     magnets = []
     for disc, zc in disc_centres.items():
         for j in range(mg.count):

@@ -201,9 +201,7 @@ def predict(spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf) -> Predict
         )
         for _ in range(3):
             r_hot = r_phase * copper_resistivity(temps) / copper_resistivity(20.0)
-            e_ph, i_ph, v_ph = _ac_line_output(
-                spec, layout, emf, turns, r_hot, l_phase, rpms, load_ohm
-            )
+            e_ph, i_ph, v_ph = _ac_line_output(spec, layout, emf, turns, r_hot, l_phase, rpms, load_ohm)
             cu_w = phases * i_ph**2 * r_hot
             temps = ambient + cu_w / (FACE_HEAT_TRANSFER_W_M2K * area)
         dc_p = phases * i_ph**2 * load_ohm
@@ -272,9 +270,7 @@ def _turns_for_dc(spec, geo, layout, emf, per_turn_peak) -> int:
         cu = _copper(spec, geo, layout, n)
         if cu is None:
             return None
-        res = _simulate(
-            spec, layout, emf, n, cu[3], cu[4], np.array([ta.rated_rpm]), load, [ta.ambient_c]
-        )
+        res = _simulate(spec, layout, emf, n, cu[3], cu[4], np.array([ta.rated_rpm]), load, [ta.ambient_c])
         return float(res.dc_voltage_v[0])
 
     return _fewest_turns(

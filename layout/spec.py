@@ -255,9 +255,7 @@ def _check_consistency(spec: Spec) -> None:
         raise spec.fail("stator.phases", 2, "must be 1 (single phase) or 3 (three phase)")
     if (st.phases == 1) != (co.kind == "single_phase"):
         allowed = '"single_phase"' if st.phases == 1 else '"star" or "delta"'
-        raise spec.fail(
-            "connection.kind", co.kind, f"must be {allowed} for stator.phases = {st.phases}"
-        )
+        raise spec.fail("connection.kind", co.kind, f"must be {allowed} for stator.phases = {st.phases}")
     for pos in st.empty_positions:
         if not 1 <= pos <= st.coil_positions:
             raise spec.fail(
@@ -266,9 +264,7 @@ def _check_consistency(spec: Spec) -> None:
                 f"positions are numbered 1 to {st.coil_positions}",
             )
     if len(set(st.empty_positions)) != len(st.empty_positions):
-        raise spec.fail(
-            "stator.empty_positions", list(st.empty_positions), "lists a position twice"
-        )
+        raise spec.fail("stator.empty_positions", list(st.empty_positions), "lists a position twice")
     if len(st.empty_positions) >= st.coil_positions:
         raise spec.fail("stator.empty_positions", list(st.empty_positions), "leaves no coil")
     if mg.shape == "block":
@@ -276,25 +272,19 @@ def _check_consistency(spec: Spec) -> None:
             if getattr(mg, key) is None:
                 raise spec.fail(f"magnets.{key}", None, 'required for magnets.shape = "block"')
         if mg.diameter_mm is not None:
-            raise spec.fail(
-                "magnets.diameter_mm", mg.diameter_mm, 'only for magnets.shape = "disc"'
-            )
+            raise spec.fail("magnets.diameter_mm", mg.diameter_mm, 'only for magnets.shape = "disc"')
     else:
         if mg.diameter_mm is None:
             raise spec.fail("magnets.diameter_mm", None, 'required for magnets.shape = "disc"')
         for key in ("length_mm", "width_mm"):
             if getattr(mg, key) is not None:
-                raise spec.fail(
-                    f"magnets.{key}", getattr(mg, key), 'only for magnets.shape = "block"'
-                )
+                raise spec.fail(f"magnets.{key}", getattr(mg, key), 'only for magnets.shape = "block"')
     if (mg.grade is None) == (mg.remanence_t is None):
         raise spec.fail(
             "magnets.grade", mg.grade, "give exactly one of magnets.grade and magnets.remanence_t"
         )
     if ta.max_rpm < ta.rated_rpm:
-        raise spec.fail(
-            "target.max_rpm", ta.max_rpm, f"must be at least target.rated_rpm ({ta.rated_rpm:g})"
-        )
+        raise spec.fail("target.max_rpm", ta.max_rpm, f"must be at least target.rated_rpm ({ta.rated_rpm:g})")
     if ta.kind == "battery":
         for key in ("battery_v", "cut_in_rpm"):
             if getattr(ta, key) is None:

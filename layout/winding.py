@@ -146,9 +146,7 @@ def _single_phase(theta_deg: np.ndarray):
     """
     u = _unit(theta_deg)
     eps = 1e-7
-    cands = np.concatenate(
-        [theta_deg, theta_deg + 90 + eps, theta_deg - 90 - eps, theta_deg + 90 - eps]
-    )
+    cands = np.concatenate([theta_deg, theta_deg + 90 + eps, theta_deg - 90 - eps, theta_deg + 90 - eps])
     best = None
     for d in np.radians(cands):
         proj = np.cos(np.radians(theta_deg) - d)

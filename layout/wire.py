@@ -61,20 +61,14 @@ def choose_wire(copper_mm2_per_turn: float, standard: str, max_diameter_mm: floa
 
 def copper_resistivity(temperature_c: float) -> float:
     """Ω·mm²/m of annealed copper at a temperature, IEC 60028 (ρ20 = 1/58, α20 = 0.00393/K)."""
-    return COPPER_RESISTIVITY_20C_OHM_MM2_PER_M * (
-        1 + COPPER_TEMP_COEFF_PER_K * (temperature_c - 20)
-    )
+    return COPPER_RESISTIVITY_20C_OHM_MM2_PER_M * (1 + COPPER_TEMP_COEFF_PER_K * (temperature_c - 20))
 
 
-def coil_resistance_ohm(
-    turns: int, mean_turn_mm: float, wire: Wire, temperature_c: float = 20.0
-) -> float:
+def coil_resistance_ohm(turns: int, mean_turn_mm: float, wire: Wire, temperature_c: float = 20.0) -> float:
     return copper_resistivity(temperature_c) * turns * mean_turn_mm / 1000 / wire.copper_mm2
 
 
-def wheeler_inductance_h(
-    turns: int, mean_radius_mm: float, length_mm: float, depth_mm: float
-) -> float:
+def wheeler_inductance_h(turns: int, mean_radius_mm: float, length_mm: float, depth_mm: float) -> float:
     """Multilayer air-core coil, Wheeler, Proc. IRE 16(10), 1928.
 
     L[µH] = 0.8·a²·N² / (6a + 9b + 10c), a mean radius, b axial length, c radial depth,

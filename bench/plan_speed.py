@@ -1,0 +1,75 @@
+"""Benchmark: `statorsmith plan DESIGN` end to end, and the computation after imports.
+
+Targets on a 2-core machine: end to end at most 1.0 s wall (median), of which the
+computation after imports at most 0.25 s. Usage:
+
+    .venv/bin/python bench/plan_speed.py [DESIGN.toml ...] [--runs N]
+
+Prints one line per design and exits 1 if a median misses its target.
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+END_TO_END_S = 1.0
+COMPUTE_S = 0.25
+
+
+def end_to_end(design: Path, runs: int) -> float:
+    exe = Path(sys.executable).parent / "statorsmith"
+    times = []
+    for _ in range(runs):
+        t = time.perf_counter()
+        subprocess.run([str(exe), "plan", str(design)], check=True, capture_output=True)
+        times.append(time.perf_counter() - t)
+    return statistics.median(times)
+
+
+def compute_only(design: Path, runs: int) -> float:
+    """Load, compute and render in a process that has already imported everything."""
+    code = f"""
+import statistics, time, json
+import magpylib.core  # imports are not part of this figure
+from fab.report import plan_json, plan_text
+from layout.design import compute_design
+from layout.spec import load_spec
+times = []
+for _ in range({runs}):
+    t = time.perf_counter()
+    d = compute_design(load_spec({str(design)!r}))
+    plan_text(d); json.dumps(plan_json(d))
+    times.append(time.perf_counter() - t)
+print(statistics.median(times[1:] if len(times) > 1 else times))
+"""
+    out = subprocess.run([sys.executable, "-c", code], check=True, capture_output=True, text=True)
+    return float(out.stdout.strip())
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser()
+    parser.add_argument("designs", nargs="*", type=Path)
+    parser.add_argument("--runs", type=int, default=7)
+    args = parser.parse_args()
+    designs = args.designs or sorted((ROOT / "designs").glob("*.toml"))
+    ok = True
+    for design in designs:
+        e2e = end_to_end(design, args.runs)
+        comp = compute_only(design, args.runs + 1)
+        good = e2e <= END_TO_END_S and comp <= COMPUTE_S
+        ok &= good
+        print(
+            f"{design.name:16s} plan end to end {e2e:.3f} s (target {END_TO_END_S} s), "
+            f"computation {comp:.3f} s (target {COMPUTE_S} s)  {'ok' if good else 'SLOW'}"
+        )
+    return 0 if ok else 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())
