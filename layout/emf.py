@@ -198,6 +198,10 @@ def phase_emf(link: CoilLinkage, layout: Layout, connection: str, m: int = 240) 
         phase[k] += c.polarity * waveform(d_harm, p * math.radians(c.angle_deg), m)
     if phases == 3 and connection == "star":
         line = np.array([phase[0] - phase[1], phase[1] - phase[2], phase[2] - phase[0]])
+    elif phases == 3:
+        # Round a delta the triplen EMF drives a circulating current that drops exactly
+        # the mean EMF inside the windings, so the terminals see e_k − mean(e).
+        line = phase - phase.mean(axis=0)
     else:
         line = phase.copy()
     return PhaseEmf(m, coil, phase, line)

@@ -110,7 +110,7 @@ def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t
         b_plate = flux / (2 * thick * 1e-3 * width * 1e-3)
         if steel_b is None or b_plate > steel_b:
             steel_b, steel_name = b_plate, name
-            steel_need = flux / (2 * STEEL_B_LIMIT_T * width * 1e-3) * 1e3
+            steel_need = math.ceil(flux / (2 * STEEL_B_LIMIT_T * width * 1e-3) * 1e4) / 10  # up to 0.1 mm
     mat = DISC_MATERIALS[ro.disc_material]
     r_out = disc_outer_radius_mm(spec)
     r_in = ro.bore_diameter_mm / 2

@@ -23,7 +23,6 @@ METRIC_DIAMETERS_MM = (
     2.00, 2.12, 2.24, 2.36, 2.50, 2.65, 2.80, 3.00, 3.15,
 )  # fmt: skip
 METRIC_SIZES = tuple((f"{d:.2f} mm", d) for d in METRIC_DIAMETERS_MM)
-MAX_STRANDS = 20
 
 
 @dataclass(frozen=True)
@@ -41,21 +40,33 @@ def choose_wire(copper_mm2_per_turn: float, standard: str, max_diameter_mm: floa
     """The largest standard wire whose copper fits, with strands in hand if it would be stiff.
 
     One wire if the largest fitting size is no thicker than `max_diameter_mm`; otherwise
-    the fewest strands of a size at most `max_diameter_mm` that together still fit.
+    the fewest strands of one size, at most `max_diameter_mm`, that together still fit.
     None when even one strand of the finest size is too big (too many turns).
     """
-    sizes = AWG_SIZES if standard == "awg" else METRIC_SIZES
-    sizes = sorted(sizes, key=lambda s: s[1])
-    for strands in range(1, MAX_STRANDS + 1):
-        fits = [
-            s for s in sizes
-            if strands * math.pi * s[1] ** 2 / 4 <= copper_mm2_per_turn * (1 + 1e-9)
-        ]  # fmt: skip
-        if not fits:
-            return None
-        name, d = fits[-1]
-        if d <= max_diameter_mm + 1e-9:
-            return Wire(name, d, strands)
+    sizes = sorted(AWG_SIZES if standard == "awg" else METRIC_SIZES, key=lambda s: s[1])
+    slack = 1 + 1e-9
+
+    def area(d: float) -> float:
+        return math.pi * d * d / 4
+
+    def largest(limit_mm2: float, cap_mm: float):
+        fits = [s for s in sizes if area(s[1]) <= limit_mm2 * slack and s[1] <= cap_mm + 1e-9]
+        return fits[-1] if fits else None
+
+    one = largest(copper_mm2_per_turn, math.inf)
+    if one is None:
+        return None
+    if one[1] <= max_diameter_mm + 1e-9:
+        return Wire(one[0], one[1], 1)
+    cap = largest(math.inf, max_diameter_mm)
+    if cap is None:
+        return None
+    strands = max(2, math.floor(copper_mm2_per_turn * slack / area(cap[1])))
+    while strands > 1:
+        pick = largest(copper_mm2_per_turn / strands, max_diameter_mm)
+        if pick is not None:
+            return Wire(pick[0], pick[1], strands)
+        strands += 1
     return None
 
 

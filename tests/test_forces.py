@@ -1,0 +1,227 @@
+"""Disc attraction, steel flux density, hoop stress and magnet pull."""
+
+from __future__ import annotations
+
+import dataclasses
+import functools
+import math
+import re
+from pathlib import Path
+
+import pytest
+
+from layout.design import Design, compute_design
+from layout.forces import STEEL_B_LIMIT_T, hoop_stress_mpa, magnet_pull_n
+from layout.spec import Spec, load_spec
+
+DESIGNS = Path(__file__).resolve().parents[1] / "designs"
+DEMOS = ("hilltop", "millrace", "pedalbox")
+MU0 = 4e-7 * math.pi  # vacuum permeability, H/m (CODATA, pre-2019 exact value)
+
+
+@functools.cache
+def demo_spec(name: str) -> Spec:
+    return load_spec(DESIGNS / f"{name}.toml")
+
+
+def variant(name: str, *changes: tuple[str, object]) -> Spec:
+    """The demo with ("section.key", value) changes applied to its frozen sections."""
+    spec = demo_spec(name)
+    for dotted, value in changes:
+        section, key = dotted.split(".")
+        spec = dataclasses.replace(
+            spec, **{section: dataclasses.replace(getattr(spec, section), **{key: value})}
+        )
+    return spec
+
+
+@functools.cache
+def design(name: str, *changes: tuple[str, object]) -> Design:
+    return compute_design(variant(name, *changes))
+
+
+def face_area_m2(spec: Spec) -> float:
+    mg = spec.magnets
+    if mg.shape == "block":
+        return mg.length_mm * mg.width_mm * 1e-6
+    return math.pi * mg.diameter_mm**2 / 4 * 1e-6
+
+
+def contact_bound_n(d: Design) -> float:
+    """Br^2 A / (2 mu0): Maxwell stress with the face flux density at its largest, Br."""
+    return d.geometry.remanence_t**2 * face_area_m2(d.spec) / (2 * MU0)
+
+
+# --- hoop stress -------------------------------------------------------------------------
+
+
+def test_hoop_stress_hand_worked_case():
+    # Timoshenko & Goodier / Roark, annular disc at the bore:
+    # sigma = (3+nu)/4 rho w^2 [Ro^2 + (1-nu)/(3+nu) Ri^2].
+    # Steel rho = 7850 kg/m3, nu = 0.29, 3000 rpm (w^2 = 98696 s^-2), Ro = 0.1 m, Ri = 0.01 m:
+    # 0.8225 * 7850 * 98696 * (0.01 + 0.2158 * 0.0001) = 6.386 MPa (hand computed).
+    omega = 2 * math.pi * 3000 / 60
+    assert hoop_stress_mpa(7850.0, 0.29, omega, 0.1, 0.01) == pytest.approx(6.386, abs=0.001)
+
+
+def test_hoop_stress_limits():
+    rho, nu, omega, r = 2700.0, 0.33, 400.0, 0.2
+    # Timoshenko & Goodier: a small central hole doubles the centre stress of a solid disc,
+    # (3+nu)/8 rho w^2 R^2.
+    solid_centre = (3 + nu) / 8 * rho * omega**2 * r**2 / 1e6
+    assert hoop_stress_mpa(rho, nu, omega, r, 1e-6) == pytest.approx(2 * solid_centre, rel=1e-6)
+    # Thin rotating ring: sigma = rho v^2 = rho w^2 R^2 (Roark, thin ring; from memory).
+    ring = rho * omega**2 * r**2 / 1e6
+    assert hoop_stress_mpa(rho, nu, omega, r, r * (1 - 1e-9)) == pytest.approx(ring, rel=1e-6)
+
+
+def test_hoop_stress_scales_with_density_and_speed_squared():
+    base = hoop_stress_mpa(1240.0, 0.36, 300.0, 0.15, 0.02)
+    assert hoop_stress_mpa(2480.0, 0.36, 300.0, 0.15, 0.02) == pytest.approx(2 * base, rel=1e-12)
+    assert hoop_stress_mpa(1240.0, 0.36, 600.0, 0.15, 0.02) == pytest.approx(4 * base, rel=1e-12)
+
+
+def test_magnet_mass_by_hand():
+    # Sintered NdFeB 7.5 g/cm3 (from memory): 40 x 20 x 10 mm = 8 cm3 -> 60 g;
+    # disc 30 mm x 8 mm = pi * 1.5^2 * 0.8 cm3 = 5.655 cm3 -> 42.41 g.
+    assert design("millrace").forces.magnet_mass_g == pytest.approx(60.0, rel=1e-9)
+    assert design("pedalbox").forces.magnet_mass_g == pytest.approx(42.41, abs=0.01)
+
+
+def test_design_hoop_stress_is_disc_plus_magnet_rim_load_by_hand():
+    d = design("millrace")
+    # Steel disc (7.85 g/cm3, nu = 0.29, common handbook values), outer radius = magnets'
+    # outer edge 105 + 20 mm plus a 10 mm rim = 135 mm, bore 35 mm, 550 rpm.
+    omega = 2 * math.pi * 550 / 60
+    disc = (3 + 0.29) / 4 * 7850 * omega**2 * (0.135**2 + 0.71 / 3.29 * 0.0175**2) / 1e6
+    # Rim load of 16 magnets of 60 g at 105 mm carried as a thin ring's tension
+    # T = sum(m w^2 r) / (2 pi) by the 8 mm x (135 - 17.5) mm radial section.
+    tension = 16 * 0.060 * omega**2 * 0.105 / (2 * math.pi)
+    rim = tension / (0.008 * (0.135 - 0.0175)) / 1e6
+    assert d.forces.disc_outer_radius_mm == pytest.approx(135.0)
+    assert d.forces.hoop_stress_mpa == pytest.approx(disc + rim, rel=1e-9)
+    assert d.forces.hoop_safety_factor == pytest.approx(235.0 / (disc + rim), rel=1e-9)
+
+
+def test_design_hoop_stress_scales_with_max_rpm_squared():
+    base = design("millrace").forces.hoop_stress_mpa
+    fast = design("millrace", ("target.max_rpm", 1100.0)).forces.hoop_stress_mpa
+    assert fast == pytest.approx(4 * base, rel=1e-12)
+
+
+# --- axial attraction --------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_discs_and_steel_stator_attract(name):
+    assert design(name).forces.axial_force_n > 0
+
+
+def test_one_disc_coreless_has_no_axial_pull():
+    d = design("millrace", ("rotor.topology", "one_disc_coreless"))
+    assert d.forces.axial_force_n == 0.0
+    assert not d.forces.jacking_screws
+    codes = {w.code for w in d.warnings}
+    assert not codes & {"rotor.attraction", "rotor.jacking_screws"}
+
+
+@pytest.mark.parametrize(("name", "near"), [("millrace", 1.0), ("hilltop", 1.5)])
+def test_attraction_grows_as_the_running_clearance_shrinks(name, near):
+    far = design(name).forces.axial_force_n
+    close = design(name, ("rotor.running_clearance_mm", near)).forces.axial_force_n
+    assert close > far > 0
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_attraction_per_pole_below_the_contact_bound(name):
+    # Maxwell stress B^2/(2 mu0): the normal flux density cannot exceed Br at the magnet
+    # face, so one pole's attraction across a gap stays below Br^2 A_magnet / (2 mu0).
+    # A sanity bound (common practice), far from tight with a gap of several mm.
+    d = design(name)
+    per_pole = d.forces.axial_force_n / d.spec.magnets.count
+    assert 0 < per_pole < contact_bound_n(d)
+
+
+# --- one magnet onto steel ---------------------------------------------------------------
+
+
+def centre_flux_density_in_contact(spec: Spec, br: float) -> float:
+    """Bz at the centre of the contact face of a magnet flat on thick steel.
+
+    Magnet plus its image is one magnet 2h thick in free space; the contact face is its
+    mid-plane. Each pole face, a sheet of charge Br/mu0 at distance h, subtends a solid
+    angle Omega and lowers Bz by Br Omega / (4 pi) (Furlani 2001, the single-face terms of
+    his on-axis block and disc formulas), so Bz = Br (1 - Omega / (2 pi)).
+    """
+    mg, h = spec.magnets, spec.magnets.thickness_mm
+    if mg.shape == "block":
+        a, b = mg.length_mm, mg.width_mm
+        return br * (1 - 2 / math.pi * math.atan(a * b / (2 * h * math.sqrt(4 * h * h + a * a + b * b))))
+    r = mg.diameter_mm / 2
+    return br * h / math.sqrt(r * r + h * h)
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_magnet_pull_between_bounds(name):
+    d = design(name)
+    pull = magnet_pull_n(d.spec)
+    assert pull == d.forces.magnet_pull_n
+    bound = contact_bound_n(d)
+    # Upper: B at the face never exceeds Br. Lower (from memory): a magnet of these
+    # proportions on thick steel pulls a sizeable fraction of that bound, well over a quarter.
+    assert 0.25 * bound < pull < bound
+    # Sharper lower bound: the face solid angle is largest seen from the centre (symmetric
+    # convex face), so Bz >= its centre value everywhere on the contact face.
+    bc = centre_flux_density_in_contact(d.spec, d.geometry.remanence_t)
+    assert pull > bc**2 * face_area_m2(d.spec) / (2 * MU0)
+
+
+def test_magnet_pull_scales_with_remanence_squared():
+    # B is proportional to Br everywhere for a linear (rigid) magnet, so F goes as Br^2.
+    weak = variant("millrace", ("magnets.grade", None), ("magnets.remanence_t", 0.65))
+    strong = variant("millrace", ("magnets.grade", None), ("magnets.remanence_t", 1.30))
+    assert magnet_pull_n(strong) == pytest.approx(4 * magnet_pull_n(weak), rel=1e-9)
+
+
+# --- steel flux density ------------------------------------------------------------------
+
+
+def test_steel_flux_density_falls_as_one_over_thickness():
+    # The field does not depend on the plate's thickness (images in its surface), so the
+    # per-pole flux is fixed and B = flux / (2 t w) exactly.
+    base = design("millrace").forces
+    for t in (4.0, 16.0):
+        f = design("millrace", ("rotor.disc_thickness_mm", t)).forces
+        assert f.steel_peak_b_t * t == pytest.approx(base.steel_peak_b_t * 8.0, rel=1e-9)
+        assert f.steel_needed_mm == pytest.approx(base.steel_needed_mm, rel=1e-9)
+    # The advice is rounded up to the next 0.1 mm, so it always cures the saturation.
+    exact = base.steel_peak_b_t * 8.0 / STEEL_B_LIMIT_T
+    assert exact <= base.steel_needed_mm < exact + 0.1 + 1e-9
+
+
+def test_thin_plate_warns_of_saturation_and_the_needed_thickness_cures_it():
+    thin = design("millrace", ("rotor.disc_thickness_mm", 3.0))
+    # Common practice: keep mild steel under about 1.5 T.
+    assert thin.forces.steel_peak_b_t > 1.5
+    warn = [w for w in thin.warnings if w.code == "steel.saturation"]
+    assert len(warn) == 1 and warn[0].severity == "warning"
+    assert "rotor disc" in warn[0].message
+    need = thin.forces.steel_needed_mm
+    cured = design("millrace", ("rotor.disc_thickness_mm", need))
+    assert cured.forces.steel_peak_b_t <= 1.5 + 1e-9
+    assert "steel.saturation" not in {w.code for w in cured.warnings}
+
+
+def test_thickness_named_in_the_saturation_message_cures_it():
+    thin = design("millrace", ("rotor.disc_thickness_mm", 3.0))
+    message = next(w.message for w in thin.warnings if w.code == "steel.saturation")
+    named = float(re.search(r"at least ([0-9.]+) mm", message).group(1))
+    cured = design("millrace", ("rotor.disc_thickness_mm", named))
+    assert "steel.saturation" not in {w.code for w in cured.warnings}
+
+
+def test_thin_stator_plate_is_the_plate_that_saturates():
+    d = design("hilltop", ("rotor.stator_plate_thickness_mm", 2.0))
+    assert d.forces.steel_plate == "stator plate"
+    assert d.forces.steel_peak_b_t > 1.5
+    assert any(w.code == "steel.saturation" and "stator plate" in w.message for w in d.warnings)

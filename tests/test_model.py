@@ -1,0 +1,337 @@
+"""Turns, wire, resistance and the output curve of the demo designs and variants of them."""
+
+from __future__ import annotations
+
+import dataclasses
+import functools
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from fab.report import plan_json
+from layout import model
+from layout.circuit import Load
+from layout.design import Design, compute_design
+from layout.spec import DesignError, Spec, load_spec
+
+DESIGNS = Path(__file__).resolve().parents[1] / "designs"
+DEMOS = ("hilltop", "millrace", "pedalbox")
+BATTERY_DEMOS = ("hilltop", "millrace")
+INCH_MM = 25.4
+
+@functools.cache
+def demo_spec(name: str) -> Spec:
+    return load_spec(DESIGNS / f"{name}.toml")
+
+
+def variant(name: str, *changes: tuple[str, object]) -> Spec:
+    """The demo with ("section.key", value) changes applied to its frozen sections."""
+    spec = demo_spec(name)
+    for dotted, value in changes:
+        section, key = dotted.split(".")
+        spec = dataclasses.replace(
+            spec, **{section: dataclasses.replace(getattr(spec, section), **{key: value})}
+        )
+    return spec
+
+
+@functools.cache
+def design(name: str, *changes: tuple[str, object]) -> Design:
+    return compute_design(variant(name, *changes))
+
+
+def hand_copper_mm2(wire) -> float:
+    return wire.strands * math.pi * wire.diameter_mm**2 / 4
+
+
+# --- battery target: cut-in ------------------------------------------------------------
+
+
+@pytest.mark.parametrize("name", BATTERY_DEMOS)
+def test_cut_in_is_where_the_rectified_open_circuit_peak_reaches_the_battery(name):
+    d = design(name)
+    pr, ta = d.prediction, d.spec.target
+    # physics.md "Cut-in": battery voltage plus the two diode drops in the conduction path.
+    v_cut = ta.battery_v + 2 * ta.diode_drop_v
+    # Open-circuit peak of the bridge output = largest line-to-line voltage; linear in rpm.
+    peak_per_rpm = float(np.abs(pr.line_emf_v(1000.0)).max()) / 1000.0
+    assert pr.cut_in_rpm == pytest.approx(v_cut / peak_per_rpm, rel=1e-9)
+    assert pr.cut_in_voltage_v == pytest.approx(v_cut, rel=1e-12)
+
+
+def simulate_at(d: Design, turns: int, rpms, load: Load):
+    """The bridge model at ambient temperature for `turns` per coil on the design's window."""
+    cu = model._copper(d.spec, d.geometry, d.layout, turns)
+    assert cu is not None
+    temps = np.full(len(rpms), d.spec.target.ambient_c)
+    return model._simulate(
+        d.spec, d.layout, d.prediction.emf, turns, cu[3], cu[4], np.asarray(rpms), load, temps
+    )
+
+
+@pytest.mark.parametrize(
+    "name", ["millrace", "hilltop"]
+)
+def test_the_bridge_starts_conducting_at_the_reported_cut_in(name):
+    d = design(name)
+    ta, cut = d.spec.target, d.prediction.cut_in_rpm
+    load = Load("battery", ta.battery_resistance_ohm, ta.battery_v)
+    res = simulate_at(d, d.prediction.turns_per_coil, [0.97 * cut, 1.03 * cut], load)
+    assert res.dc_current_a[0] == pytest.approx(0.0, abs=1e-9)
+    assert res.dc_current_a[1] > 1e-3
+
+
+@pytest.mark.parametrize(
+    "name", ["millrace", "hilltop"]
+)
+def test_curve_is_zero_below_cut_in_and_rises_above(name):
+    pr = design(name).prediction
+    below = [op for op in pr.curve if op.rpm < pr.cut_in_rpm]
+    above = [op for op in pr.curve if op.rpm > pr.cut_in_rpm]
+    assert below and above
+    for op in below:
+        assert op.dc_current_a == pytest.approx(0.0, abs=1e-9)
+        assert op.dc_power_w == pytest.approx(0.0, abs=1e-9)
+    currents = [below[-1].dc_current_a] + [op.dc_current_a for op in above]
+    assert all(b > a for a, b in zip(currents, currents[1:], strict=False)), currents
+
+
+@pytest.mark.parametrize("name", BATTERY_DEMOS)
+def test_whole_turns_put_cut_in_within_half_a_turn_of_the_target(name):
+    d = design(name)
+    n = d.prediction.turns_per_coil
+    assert isinstance(n, int) and n >= 1
+    # Cut-in rpm goes as 1/N, so the nearest whole N is within 0.5/N of the target.
+    error = abs(d.prediction.cut_in_rpm / d.spec.target.cut_in_rpm - 1)
+    assert error <= 0.5 / n + 1e-12
+
+
+# --- turns, copper and EMF scaling -----------------------------------------------------
+
+
+def test_doubling_the_battery_doubles_turns_and_emf_and_quadruples_resistance():
+    base = design("millrace")
+    high = design("millrace", ("target.battery_v", 96.0))
+    # Same machine: the EMF per turn per rad/s does not depend on the target.
+    np.testing.assert_array_equal(base.prediction.emf.phase_v, high.prediction.emf.phase_v)
+    n1, n2 = base.prediction.turns_per_coil, high.prediction.turns_per_coil
+    # (96 + 1.8) / (48 + 1.8) = 1.96 times the turns, to the nearest whole turn.
+    assert n2 == pytest.approx(n1 * 97.8 / 49.8, abs=1.0)
+    ratio_v = high.prediction.open_circuit_phase_rms_v / base.prediction.open_circuit_phase_rms_v
+    assert ratio_v == pytest.approx(n2 / n1, rel=1e-12)
+    a1, a2 = hand_copper_mm2(base.prediction.wire), hand_copper_mm2(high.prediction.wire)
+    ratio_r = high.prediction.phase_resistance_ohm / base.prediction.phase_resistance_ohm
+    assert ratio_r == pytest.approx((n2 / n1) * (a1 / a2), rel=1e-12)
+    # Standard sizes step by 92^(2/39) = 1.261 in area (ASTM B258), so about 4x.
+    assert 4 / 1.27 < ratio_r < 4 * 1.27
+
+
+def test_twice_the_turns_in_the_same_window():
+    d = design("millrace")
+    n = d.prediction.turns_per_coil
+    one = model._copper(d.spec, d.geometry, d.layout, n)
+    two = model._copper(d.spec, d.geometry, d.layout, 2 * n)
+    # R = rho*N*l/A per coil: twice the turns on roughly half the copper each.
+    ratio = two[1] / one[1]
+    assert ratio == pytest.approx(2 * one[0].copper_mm2 / two[0].copper_mm2, rel=1e-12)
+    assert 4 / 1.27 < ratio < 4 * 1.27  # one AWG step is 1.261 in area (ASTM B258)
+    # EMF is N times the per-turn EMF.
+    doubled = dataclasses.replace(d.prediction, turns_per_coil=2 * n)
+    np.testing.assert_allclose(doubled.phase_emf_v(300.0), 2 * d.prediction.phase_emf_v(300.0), rtol=1e-12)
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_emf_is_proportional_to_speed(name):
+    d = design(name)
+    pr, ta = d.prediction, d.spec.target
+    np.testing.assert_allclose(pr.phase_emf_v(2 * ta.rated_rpm), 2 * pr.phase_emf_v(ta.rated_rpm))
+    assert pr.open_circuit_line_rms_at_max_v / pr.open_circuit_line_rms_v == pytest.approx(
+        ta.max_rpm / ta.rated_rpm, rel=1e-12
+    )
+    per_rpm = [op.open_circuit_line_rms_v / op.rpm for op in pr.curve]
+    assert max(per_rpm) == pytest.approx(min(per_rpm), rel=1e-12)
+
+
+@pytest.mark.parametrize(("name", "hz"), [("hilltop", 26.0), ("millrace", 40.0), ("pedalbox", 40.0)])
+def test_electrical_frequency(name, hz):
+    # Gieras, Wang & Kamper 2008: f = P * n / 120 (P magnets per disc, n rpm);
+    # hand computed: 12 * 260 / 120 = 26, 16 * 300 / 120 = 40, 8 * 600 / 120 = 40 Hz.
+    assert design(name).prediction.electrical_hz_at_rated == pytest.approx(hz, rel=1e-12)
+
+
+# --- dc target -------------------------------------------------------------------------
+
+
+def test_dc_target_is_met_with_the_fewest_turns():
+    d = design("pedalbox")
+    ta, n = d.spec.target, d.prediction.turns_per_coil
+    assert d.prediction.rated.rpm == ta.rated_rpm
+    assert d.prediction.rated.dc_voltage_v >= ta.voltage_v
+    load = Load("resistor", ta.voltage_v / ta.rated_current_a)
+    at_n = simulate_at(d, n, [ta.rated_rpm], load).dc_voltage_v[0]
+    fewer = simulate_at(d, n - 1, [ta.rated_rpm], load).dc_voltage_v[0]
+    assert at_n >= ta.voltage_v
+    assert fewer < ta.voltage_v
+
+
+def test_unreachable_dc_target_names_the_voltage_in_one_line():
+    with pytest.raises(DesignError) as caught:
+        compute_design(variant("pedalbox", ("target.rated_current_a", 1000.0)))
+    err = caught.value
+    assert err.key == "target.voltage_v"
+    text = str(err)
+    assert "\n" not in text
+    assert text.startswith("pedalbox.toml: target.voltage_v = 13.5")
+    assert "lower the current" in text
+
+
+# --- energy, resistance, inductance ------------------------------------------------------
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_energy_balance_at_every_curve_point(name):
+    # Conservation of energy over a steady period: what the EMFs deliver goes to the load,
+    # the copper and the diodes (the inductance returns what it stores).
+    for op in design(name).prediction.curve:
+        assert 0.0 <= op.efficiency <= 1.0
+        losses = op.dc_power_w + op.copper_loss_w + op.rectifier_loss_w
+        if op.dc_power_w < 1e-6:  # below cut-in: rounding-level currents only
+            assert op.efficiency == pytest.approx(0.0, abs=1e-6)
+            continue
+        assert op.efficiency == pytest.approx(op.dc_power_w / losses, rel=0.01), op.rpm
+
+
+RESISTANCE_CASES = [
+    ("hilltop", ()),
+    ("millrace", ()),
+    ("pedalbox", ()),
+    ("millrace", (("connection.parallel_paths", 2),)),
+]
+
+
+@pytest.mark.parametrize(("name", "changes"), RESISTANCE_CASES)
+def test_phase_resistance_at_20c_by_hand(name, changes):
+    d = design(name, *changes)
+    pr, coil = d.prediction, d.geometry.coil
+    paths = d.spec.connection.parallel_paths
+    per_phase = d.layout.coils_per_phase[0]
+    assert pr.parallel_paths == paths
+    assert pr.series_coils * paths == per_phase
+    # IEC 60028: 1/58 ohm mm2/m at 20 C. Coil: N turns of the mean turn length.
+    r_coil = (1 / 58) * pr.turns_per_coil * coil.mean_turn_length_mm / 1000 / hand_copper_mm2(pr.wire)
+    assert pr.coil_resistance_ohm == pytest.approx(r_coil, rel=1e-9)
+    # Coils in series within a path add; equal paths in parallel divide.
+    assert pr.phase_resistance_ohm == pytest.approx(pr.series_coils * r_coil / paths, rel=1e-9)
+    assert pr.copper_fill <= d.spec.stator.fill_factor + 1e-9
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_phase_inductance_by_wheeler(name):
+    d = design(name)
+    pr, coil = d.prediction, d.geometry.coil
+    # Wheeler, Proc. IRE 16(10), 1928, in inches: the coil as the circle of equal mean
+    # turn length, axial length the coil thickness, radial depth the leg width.
+    a = coil.mean_turn_length_mm / (2 * math.pi) / INCH_MM
+    b = coil.thickness_mm / INCH_MM
+    c = coil.leg_width_mm / INCH_MM
+    l_coil_uh = 0.8 * a**2 * pr.turns_per_coil**2 / (6 * a + 9 * b + 10 * c)
+    assert pr.coil_inductance_mh == pytest.approx(l_coil_uh / 1000, rel=1e-9)
+    paths = pr.parallel_paths
+    assert pr.phase_inductance_mh == pytest.approx(pr.series_coils * l_coil_uh / 1000 / paths, rel=1e-9)
+
+
+# --- line and phase voltages -------------------------------------------------------------
+
+
+def test_star_line_voltage_is_root_three_times_phase():
+    pr = design("millrace").prediction
+    ratio = pr.open_circuit_line_rms_v / pr.open_circuit_phase_rms_v
+    # Balanced star: V_line = sqrt(3) V_phase for the fundamental; triplen harmonics cancel
+    # between phases, so with harmonics the ratio can only be lower (common practice).
+    assert ratio == pytest.approx(math.sqrt(3), rel=0.03)
+    assert ratio <= math.sqrt(3) * (1 + 1e-9)
+
+
+@pytest.mark.parametrize("name", ["hilltop", "pedalbox"])
+def test_delta_and_single_phase_line_voltage_is_the_phase_voltage(name):
+    d = design(name)
+    pr = d.prediction
+    if d.spec.connection.kind == "delta":
+        # Kirchhoff's voltage law round the delta: the circulating current drops the mean
+        # EMF inside the windings, so each terminal pair sees e_k - mean(e) at no load.
+        e = pr.phase_emf_v(pr.rated_rpm)
+        expected = float(np.sqrt(np.mean((e[0] - e.mean(axis=0)) ** 2)))
+        assert pr.open_circuit_line_rms_v == pytest.approx(expected, rel=1e-9)
+        assert pr.open_circuit_line_rms_v <= pr.open_circuit_phase_rms_v
+    else:
+        assert pr.open_circuit_line_rms_v == pytest.approx(pr.open_circuit_phase_rms_v, rel=1e-12)
+
+
+# --- plan --json contract ----------------------------------------------------------------
+
+
+def is_number(x) -> bool:
+    return isinstance(x, int | float) and not isinstance(x, bool) and math.isfinite(x)
+
+
+def is_point(p, n: int) -> bool:
+    return isinstance(p, list) and len(p) == n and all(is_number(v) for v in p)
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_plan_json_contract(name):
+    d = design(name)
+    doc = json.loads(json.dumps(plan_json(d), allow_nan=False))
+    el = doc["electrical"]
+    assert isinstance(el["turns_per_coil"], int)
+    assert isinstance(el["strands_in_hand"], int)
+    for key in (
+        "wire_diameter_mm",
+        "phase_resistance_ohm",
+        "phase_inductance_mh",
+        "rated_rpm",
+        "max_rpm",
+        "cut_in_rpm",
+        "open_circuit_phase_rms_v",
+        "open_circuit_line_rms_v",
+        "rated_dc_current_a",
+        "rated_dc_power_w",
+        "efficiency",
+    ):
+        assert is_number(el[key]), key
+    assert el["turns_per_coil"] == d.prediction.turns_per_coil
+    assert el["rated_rpm"] == d.spec.target.rated_rpm
+    assert len(el["curve"]) == len(d.prediction.curve) >= 10
+    for point in el["curve"]:
+        for key in ("rpm", "dc_voltage_v", "dc_current_a", "dc_power_w", "efficiency"):
+            assert is_number(point[key]), key
+    rpms = [p["rpm"] for p in el["curve"]]
+    assert rpms == sorted(rpms) and rpms[-1] == d.spec.target.max_rpm
+
+    mag = doc["magnetics"]
+    for key in ("airgap_peak_bz_t", "axial_force_n", "steel_peak_b_t"):
+        assert is_number(mag[key]), key
+
+    geo = doc["geometry"]
+    discs = 2 if d.spec.rotor.topology == "two_discs" else 1
+    assert len(geo["magnets"]) == discs * d.spec.magnets.count
+    for m in geo["magnets"]:
+        assert m["shape"] == d.spec.magnets.shape
+        assert is_point(m["center_mm"], 3)
+        assert is_point(m["dimension_mm"], 3 if m["shape"] == "block" else 2)
+        assert is_number(m["rotation_deg"])
+        assert is_number(m["polarization_t"])
+    assert all(is_number(z) for z in geo["iron_planes_z_mm"])
+    assert [c["index"] for c in geo["coils"]] == [c.index for c in d.layout.coils]
+    for c in geo["coils"]:
+        assert len(c["outline_mm"]) == len(c["hole_mm"]) >= 3
+        assert all(is_point(p, 2) for p in c["outline_mm"] + c["hole_mm"])
+        assert c["z_min_mm"] < c["z_max_mm"]
+
+    assert doc["warnings"]
+    for w in doc["warnings"]:
+        assert set(w) == {"code", "severity", "message"}
+        assert all(isinstance(v, str) and v for v in w.values())

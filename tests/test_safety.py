@@ -1,0 +1,189 @@
+"""Warnings: what can hurt someone or the machine, and what to change."""
+
+from __future__ import annotations
+
+import dataclasses
+import functools
+import re
+from pathlib import Path
+
+import pytest
+
+from layout.design import Design, compute_design
+from layout.safety import collect_warnings
+from layout.spec import Spec, load_spec
+
+DESIGNS = Path(__file__).resolve().parents[1] / "designs"
+DEMOS = ("hilltop", "millrace", "pedalbox")
+SEVERITIES = {"danger", "warning", "info"}
+ALL_CODES = {
+    "voltage.above_elv",
+    "voltage.open_circuit",
+    "disc.hoop_stress",
+    "coil.temperature",
+    "coil.overspeed_heat",
+    "coil.current_density",
+    "magnet.temperature",
+    "magnet.pinch",
+    "magnet.pacemaker",
+    "rotor.jacking_screws",
+    "rotor.attraction",
+    "steel.saturation",
+    "layout.unbalanced_pull",
+    "turns.cut_in",
+    "output.low_efficiency",
+    "rotor.spinning",
+}
+ACTION_VERBS = (
+    "use", "raise", "lower", "fit", "make", "handle", "keep", "guard", "limit", "choose",
+    "bring", "enclose", "never", "follow",
+)  # fmt: skip
+SPEC_KEY = re.compile(r"\b(stator|magnets|rotor|connection|target)\.[a-z_]+")
+
+
+@functools.cache
+def demo_spec(name: str) -> Spec:
+    return load_spec(DESIGNS / f"{name}.toml")
+
+
+def variant(name: str, *changes: tuple[str, object]) -> Spec:
+    """The demo with ("section.key", value) changes applied to its frozen sections."""
+    spec = demo_spec(name)
+    for dotted, value in changes:
+        section, key = dotted.split(".")
+        spec = dataclasses.replace(
+            spec, **{section: dataclasses.replace(getattr(spec, section), **{key: value})}
+        )
+    return spec
+
+
+@functools.cache
+def design(name: str, *changes: tuple[str, object]) -> Design:
+    return compute_design(variant(name, *changes))
+
+
+def codes(d: Design) -> dict[str, str]:
+    return {w.code: w.severity for w in d.warnings}
+
+
+def message(d: Design, code: str) -> str:
+    return next(w.message for w in d.warnings if w.code == code)
+
+
+PLA_FAST = ("millrace", ("rotor.disc_material", "pla"), ("target.max_rpm", 10000.0))
+VARIANTS = [
+    ("hilltop",),
+    ("millrace",),
+    ("pedalbox",),
+    ("pedalbox", ("target.max_rpm", 3000.0)),
+    PLA_FAST,
+    ("millrace", ("rotor.disc_thickness_mm", 3.0)),
+    ("millrace", ("rotor.topology", "one_disc_coreless")),
+]
+
+
+def doctored_warnings():
+    """Warnings for millrace with every figure pushed past its limit, to reach each branch."""
+    d = design("millrace")
+    pr, f = d.prediction, d.forces
+    rated = dataclasses.replace(pr.rated, coil_temperature_c=200.0, current_density_a_mm2=9.0, efficiency=0.5)
+    top = dataclasses.replace(pr.curve[-1], coil_temperature_c=300.0)
+    pr = dataclasses.replace(
+        pr, rated=rated, curve=pr.curve[:-1] + (top,), cut_in_rpm=2 * d.spec.target.cut_in_rpm
+    )
+    f = dataclasses.replace(
+        f, hoop_safety_factor=1.0, steel_peak_b_t=2.0, axial_force_n=50.0, jacking_screws=False
+    )
+    lay = dataclasses.replace(d.layout, unbalanced_pull=True)
+    return collect_warnings(d.spec, lay, pr, f)
+
+
+def every_warning():
+    out = [w for args in VARIANTS for w in design(*args).warnings]
+    return out + doctored_warnings()
+
+
+# --- always there ------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_magnet_handling_dangers_are_always_listed(name):
+    found = codes(design(name))
+    assert found["magnet.pinch"] == "danger"
+    assert found["magnet.pacemaker"] == "danger"
+    assert found["rotor.spinning"] == "info"
+
+
+@pytest.mark.parametrize("args", VARIANTS, ids=lambda a: "-".join(str(x) for x in a))
+def test_codes_unique_and_severities_known(args):
+    d = design(*args)
+    found = [w.code for w in d.warnings]
+    assert len(found) == len(set(found))
+    assert {w.severity for w in d.warnings} <= SEVERITIES
+    assert set(found) <= ALL_CODES
+    # Exactly one of the two open-circuit voltage notes.
+    assert len({"voltage.above_elv", "voltage.open_circuit"} & set(found)) == 1
+
+
+# --- extra-low voltage -------------------------------------------------------------------
+
+
+def test_runaway_speed_above_extra_low_voltage_is_a_danger():
+    d = design("pedalbox", ("target.max_rpm", 3000.0))
+    assert codes(d)["voltage.above_elv"] == "danger"
+    text = message(d, "voltage.above_elv")
+    # IEC 61140: extra-low voltage is at most 50 V AC rms (120 V ripple-free DC).
+    assert "IEC 61140" in text
+    assert "50 V" in text
+
+
+@pytest.mark.parametrize(
+    ("factor", "expected"), [(0.95, "voltage.open_circuit"), (1.05, "voltage.above_elv")]
+)
+def test_extra_low_voltage_threshold_is_50_v_ac(factor, expected):
+    base = design("pedalbox").prediction
+    # Open-circuit line voltage is proportional to speed; find where it reaches 50 V rms
+    # (IEC 61140 ELV limit for AC).
+    rpm_50 = 50.0 / (base.open_circuit_line_rms_v / base.rated_rpm)
+    d = design("pedalbox", ("target.max_rpm", round(factor * rpm_50)))
+    assert d.prediction.turns_per_coil == base.turns_per_coil
+    # The rectified peak stays under the 120 V DC limit (IEC 61140) at both speeds, so the
+    # 50 V AC limit alone decides.
+    assert d.prediction.open_circuit_dc_peak_at_max_v < 120.0
+    assert expected in codes(d)
+
+
+# --- rotor disc --------------------------------------------------------------------------
+
+
+def test_printed_pla_disc_at_high_speed_may_burst():
+    d = design(*PLA_FAST)
+    # Printed PLA: tensile strength about 50 MPa (from memory); a safety factor of 3 on a
+    # spinning disc (common practice).
+    assert d.forces.hoop_safety_factor < 3
+    assert codes(d)["disc.hoop_stress"] == "danger"
+    assert "target.max_rpm" in message(d, "disc.hoop_stress")
+    slow = design("millrace", ("rotor.disc_material", "pla"))
+    assert slow.forces.hoop_safety_factor > 3
+    assert "disc.hoop_stress" not in codes(slow)
+
+
+# --- message form ------------------------------------------------------------------------
+
+
+def test_doctored_inputs_reach_every_warning():
+    found = {w.code for w in every_warning()}
+    assert found == ALL_CODES
+
+
+def test_every_message_is_short_and_says_what_to_do():
+    for w in every_warning():
+        text = w.message
+        assert "\n" not in text, w.code
+        assert not text[0].islower() and text.endswith("."), w.code
+        assert 40 <= len(text) <= 450, w.code
+        sentences = len(re.findall(r"[.!?](\s+[A-Z]|$)", text))
+        assert sentences <= 3, w.code
+        words = re.findall(r"[a-z]+", text.lower())
+        acts = any(word.startswith(verb) for word in words for verb in ACTION_VERBS)
+        assert acts or SPEC_KEY.search(text), w.code
