@@ -32,9 +32,7 @@ def balance_error(res: RectifierResult) -> np.ndarray:
     return res.source_power_w - (res.dc_power_w + res.copper_loss_w + res.rectifier_loss_w)
 
 
-@pytest.mark.parametrize(
-    ("connection", "line_over_phase"), [("star", math.sqrt(3.0)), ("delta", 1.0)]
-)
+@pytest.mark.parametrize(("connection", "line_over_phase"), [("star", math.sqrt(3.0)), ("delta", 1.0)])
 def test_ideal_three_phase_bridge_average(connection, line_over_phase):
     phase_rms = np.array([5.0, 40.0])
     load = Load("resistor", 10.0)
@@ -134,9 +132,7 @@ def test_delta_third_harmonic_circulates():
     r, ind, third = 0.4, 3e-3, 0.1
     load = Load("battery", 0.05, 24.0)
     plain = simulate_rectifier(balanced_emf(rms), freq, r, ind, "delta", 0.8, load)
-    with_third = simulate_rectifier(
-        balanced_emf(rms, third=third), freq, r, ind, "delta", 0.8, load
-    )
+    with_third = simulate_rectifier(balanced_emf(rms, third=third), freq, r, ind, "delta", 0.8, load)
     # KVL round the closed delta: 3(R i0 + L di0/dt) = e_A + e_B + e_C, so the zero-sequence
     # current i0 is set by the triplen EMF alone and the line-line voltages the bridge sees
     # lose it. The third harmonic of RMS E3 in each phase therefore adds 3 R E3²/|Z3|²,
@@ -154,9 +150,7 @@ def test_star_ignores_third_harmonic():
     rms = 0.8 * freq
     load = Load("battery", 0.05, 24.0)
     plain = simulate_rectifier(balanced_emf(rms), freq, 0.4, 3e-3, "star", 0.8, load)
-    with_third = simulate_rectifier(
-        balanced_emf(rms, third=0.1), freq, 0.4, 3e-3, "star", 0.8, load
-    )
+    with_third = simulate_rectifier(balanced_emf(rms, third=0.1), freq, 0.4, 3e-3, "star", 0.8, load)
     # The floating star point takes up the triplen EMF: line-line voltages are unchanged.
     np.testing.assert_allclose(with_third.copper_loss_w, plain.copper_loss_w, rtol=1e-6)
     np.testing.assert_allclose(with_third.dc_current_a, plain.dc_current_a, rtol=1e-6)
@@ -177,9 +171,7 @@ def test_shorted_bridge_follows_phasor_impedance(connection, line_over_phase):
     expected = rms / np.hypot(r, 2.0 * np.pi * freq * ind)
     np.testing.assert_allclose(res.phase_current_rms_a, expected, rtol=2e-3)
     # Delta line currents are differences of phase currents 120° apart: √3 larger.
-    np.testing.assert_allclose(
-        res.line_current_rms_a, line_over_phase * res.phase_current_rms_a, rtol=1e-3
-    )
+    np.testing.assert_allclose(res.line_current_rms_a, line_over_phase * res.phase_current_rms_a, rtol=1e-3)
     assert res.converged.all() and res.periods_simulated >= 2
 
 

@@ -188,9 +188,7 @@ def test_plan_table(ok, demo):
     out = ok("plan", DESIGNS / f"{demo}.toml").splitlines()
     assert out[0] == f"{raw['name']}: {raw['purpose']}"
     phases = "ABC" if raw["stator"]["phases"] == 3 else "A"
-    coil_rows = [
-        r for r in (line.split() for line in out) if len(r) >= 4 and r[2] in phases and r[3] in "+-"
-    ]
+    coil_rows = [r for r in (line.split() for line in out) if len(r) >= 4 and r[2] in phases and r[3] in "+-"]
     assert [int(r[0]) for r in coil_rows] == list(range(1, raw["stator"]["coil_positions"] + 1))
 
 
@@ -213,9 +211,7 @@ def test_plan_json(ok_json, demo):
     assert counts == [q // len(names)] * len(names)
     assert lay["balanced"] is True
     assert lay["periodicity"] == math.gcd(q, pm // 2)
-    assert lay["winding_factor"] == pytest.approx(
-        lay["distribution_factor"] * lay["pitch_factor"], abs=2e-6
-    )
+    assert lay["winding_factor"] == pytest.approx(lay["distribution_factor"] * lay["pitch_factor"], abs=2e-6)
     assert lay["winding_factor"] == pytest.approx(DEMO_KW[demo], abs=1e-5)
 
 
@@ -225,8 +221,7 @@ def test_plan_loads_no_cad_or_pdf_backend():
         [
             "import sys",
             "from fab.cli import cli",
-            f"cli.main(['plan', {str(DESIGNS / 'millrace.toml')!r}, '--json'],"
-            " standalone_mode=False)",
+            f"cli.main(['plan', {str(DESIGNS / 'millrace.toml')!r}, '--json'], standalone_mode=False)",
             f"heavy = sorted({{m.split('.')[0] for m in sys.modules}} & set({sorted(HEAVY)!r}))",
             "assert not heavy, heavy",
         ]
@@ -253,9 +248,7 @@ def test_plan_bad_design_is_one_line(run, tmp_path, demo, old, new, key):
     assert message.startswith(f"Error: {BAD_NAME}: {key} = ")
 
 
-@pytest.mark.parametrize(
-    ("contents", "reason"), [c[1:] for c in BAD_FILES], ids=[c[0] for c in BAD_FILES]
-)
+@pytest.mark.parametrize(("contents", "reason"), [c[1:] for c in BAD_FILES], ids=[c[0] for c in BAD_FILES])
 def test_plan_bad_file_is_one_line(run, tmp_path, contents, reason):
     path = tmp_path / BAD_NAME
     if contents is not None:

@@ -117,9 +117,7 @@ def one_line_error(path: Path) -> str:
     [case[1:] for case in BAD_EDITS],
     ids=[case[0] for case in BAD_EDITS],
 )
-def test_bad_value_is_one_line_naming_file_key_and_value(
-    tmp_path, demo, old, new, key, shown, reason
-):
+def test_bad_value_is_one_line_naming_file_key_and_value(tmp_path, demo, old, new, key, shown, reason):
     path = tmp_path / BAD_NAME
     path.write_text(edited(demo, old, new), encoding="utf-8")
     message = one_line_error(path)
@@ -130,9 +128,7 @@ def test_bad_value_is_one_line_naming_file_key_and_value(
 def test_odd_magnet_count_message(tmp_path):
     path = tmp_path / BAD_NAME
     path.write_text(edited("millrace", "count = 16", "count = 15"), encoding="utf-8")
-    assert one_line_error(path) == (
-        "creek.toml: magnets.count = 15: must be even (magnets alternate N/S)"
-    )
+    assert one_line_error(path) == ("creek.toml: magnets.count = 15: must be even (magnets alternate N/S)")
 
 
 def test_missing_table(tmp_path):

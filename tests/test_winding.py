@@ -310,9 +310,7 @@ EQUAL_PATHS = {
 def test_hand_split_into_equal_paths(q, pm, empty, signs, groups):
     positions = [i for i in range(1, q + 1) if i not in empty]
     angle = {i: -(pm // 2) * 360.0 * (i - 1) / q for i in positions}
-    signed = {
-        i: s * np.exp(1j * math.radians(angle[i])) for i, s in zip(positions, signs, strict=True)
-    }
+    signed = {i: s * np.exp(1j * math.radians(angle[i])) for i, s in zip(positions, signs, strict=True)}
     best = star_of_slots(q, pm, 1, empty).distribution_factor
     assert abs(sum(signed.values())) / len(positions) == pytest.approx(best)
     assert sorted(i for g in groups for i in g) == positions
@@ -371,10 +369,7 @@ def test_reported_factors_match_the_coils(machine):
     """The figures are those of the connection the layout reports, coil by coil."""
     lay = star_of_slots(*machine)
     # A phase with no coil counts as zero output, as in the layout's own figure.
-    kd = min(
-        abs(signed_sum(lay.phase_coils(x))) / max(len(lay.phase_coils(x)), 1)
-        for x in lay.phase_names
-    )
+    kd = min(abs(signed_sum(lay.phase_coils(x))) / max(len(lay.phase_coils(x)), 1) for x in lay.phase_names)
     assert lay.distribution_factor == pytest.approx(kd, abs=1e-9)
     as_wound = abs(sum(np.exp(1j * math.radians(c.phasor_deg)) for c in lay.coils))
     assert lay.as_wound_distribution_factor == pytest.approx(as_wound / len(lay.coils), abs=1e-9)
