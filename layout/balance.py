@@ -1,0 +1,219 @@
+"""Rotor balance: ISO 21940-11 permissible unbalance and magnet placement from weighed magnets.
+
+Unbalance of a disc is the vector U = Σ m_k·r_k (g·mm) of everything on it, taken about
+the shaft axis. ISO 21940-11:2016 (formerly ISO 1940-1) gives the permissible residual
+unbalance U_per = 1000·G·m/Ω [g·mm] for balance grade G [mm/s], rotor mass m [kg] and
+maximum service speed Ω [rad/s].
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+# Balance grades of ISO 21940-11 (mm/s).
+GRADES = {"G0.4": 0.4, "G1": 1.0, "G2.5": 2.5, "G6.3": 6.3, "G16": 16.0, "G40": 40.0}
+MONTE_CARLO_TRIALS = 4000
+_SWAP_ROUNDS = 200
+EXHAUSTIVE_UP_TO = 8  # pockets per disc up to which every placement is tried
+RESTARTS = 48
+
+
+def permissible_unbalance_gmm(grade_mm_s: float, mass_kg: float, rpm: float) -> float:
+    """U_per = 1000·G·m/Ω, ISO 21940-11 (g·mm)."""
+    omega = rpm * 2 * math.pi / 60
+    return 1000.0 * grade_mm_s * mass_kg / omega
+
+
+def plane_allowances(u_per_gmm: float, dist_a_mm: float, dist_b_mm: float) -> tuple[float, float]:
+    """Share of U_per for two correction planes at distances a, b from the centre of mass.
+
+    ISO 21940-11 allocates in inverse proportion to the distance: U_A = U_per·b/(a+b),
+    U_B = U_per·a/(a+b); equal halves for planes symmetric about the centre of mass.
+    """
+    total = dist_a_mm + dist_b_mm
+    if total <= 0:
+        return u_per_gmm / 2, u_per_gmm / 2
+    return u_per_gmm * dist_b_mm / total, u_per_gmm * dist_a_mm / total
+
+
+def unbalance_vector(masses_g: np.ndarray, angles_rad: np.ndarray, radius_mm: float) -> complex:
+    """Σ m·r·e^{iθ} in g·mm as a complex number (x + iy)."""
+    return complex(np.sum(np.asarray(masses_g) * radius_mm * np.exp(1j * np.asarray(angles_rad))))
+
+
+def best_placement(
+    masses_g: np.ndarray, angles_rad: np.ndarray, radius_mm: float, base_gmm: complex = 0j
+) -> np.ndarray:
+    """Which magnet goes in which pocket to make |base + Σ m·r·e^{iθ}| small.
+
+    Returns perm with magnet perm[j] in pocket j. Start from heavy magnets spread round the
+    ring (heaviest, then the next opposite it, ...), then pairwise swaps while any swap
+    lowers the resultant: a local optimum that is exact on small cases and never worse than
+    where it started.
+    """
+    m = np.asarray(masses_g, dtype=float)
+    n = len(m)
+    e = np.exp(1j * np.asarray(angles_rad)) * radius_mm
+    # Spread order: pockets visited so that consecutive picks are far apart round the ring.
+    order = np.argsort(-m, kind="stable")
+    visit = []
+    step = n // 2 + (1 if n % 4 == 0 and n > 2 else 0)
+    if math.gcd(step, n) != 1:
+        step = next(s for s in range(n // 2, 0, -1) if math.gcd(s, n) == 1)
+    k = 0
+    for _ in range(n):
+        visit.append(k)
+        k = (k + step) % n
+    perm = np.empty(n, dtype=int)
+    perm[visit] = order
+    if n <= EXHAUSTIVE_UP_TO:
+        return _exhaustive(m, e, base_gmm)
+    best = _improve(m, e, perm, base_gmm)
+    best_u = abs(base_gmm + np.sum(m[best] * e))
+    rng = np.random.default_rng(0)
+    for _ in range(RESTARTS):  # swaps alone stall in local optima; restarts escape most
+        cand = _improve(m, e, rng.permutation(n), base_gmm)
+        u = abs(base_gmm + np.sum(m[cand] * e))
+        if u < best_u:
+            best, best_u = cand, u
+    return best
+
+
+def _exhaustive(m: np.ndarray, e: np.ndarray, base: complex) -> np.ndarray:
+    """Every placement, for small rings (8 pockets: 40 320 of them)."""
+    import itertools
+
+    perms = np.array(list(itertools.permutations(range(len(m)))))
+    u = np.abs(base + (m[perms] * e[None, :]).sum(axis=1))
+    return perms[int(np.argmin(u))].copy()
+
+
+def _improve(m: np.ndarray, e: np.ndarray, perm: np.ndarray, base: complex) -> np.ndarray:
+    u = base + np.sum(m[perm] * e)
+    for _ in range(_SWAP_ROUNDS):
+        # Swapping pockets i and j changes U by (m_j − m_i)(e_i − e_j); try all pairs at once.
+        mi = m[perm]
+        dm = mi[None, :] - mi[:, None]  # m_j − m_i
+        de = e[:, None] - e[None, :]  # e_i − e_j
+        new = np.abs(u + dm * de)
+        i, j = np.unravel_index(int(np.argmin(new)), new.shape)
+        if new[i, j] >= abs(u) * (1 - 1e-12) - 1e-12:
+            break
+        perm[i], perm[j] = perm[j], perm[i]
+        u = base + np.sum(m[perm] * e)
+    return perm
+
+
+def split_between_discs(masses_g: np.ndarray, per_disc: int) -> tuple[np.ndarray, np.ndarray]:
+    """Deal sorted masses alternately so both discs get about the same total and spread."""
+    order = np.argsort(-np.asarray(masses_g), kind="stable")
+    a, b = [], []
+    for k, idx in enumerate(order):
+        # ABBA dealing keeps the totals closest for sorted values.
+        (a if k % 4 in (0, 3) else b).append(int(idx))
+    if len(a) != per_disc:  # odd counts: move the lightest surplus
+        while len(a) > per_disc:
+            b.append(a.pop())
+        while len(b) > per_disc:
+            a.append(b.pop())
+    return np.array(a), np.array(b)
+
+
+@dataclass(frozen=True)
+class Correction:
+    needed: bool
+    add_g: float  # mass to add at radius_mm, angle_deg
+    radius_mm: float
+    angle_deg: float  # nearest balance position to the ideal angle
+    ideal_angle_deg: float
+    residual_after_gmm: float  # with the mass added at the nearest position
+    remove_g: float  # or material to remove opposite (at ideal_angle_deg + 180)
+
+
+def correction_for(
+    u_gmm: complex, limit_gmm: float, radius_mm: float, positions_deg: tuple[float, ...]
+) -> Correction:
+    """Mass to add at the balance position nearest to opposite the unbalance."""
+    mag = abs(u_gmm)
+    ideal = (math.degrees(math.atan2(u_gmm.imag, u_gmm.real)) + 180.0) % 360.0
+    if not positions_deg:
+        positions_deg = (ideal,)
+    d = [abs((p - ideal + 180) % 360 - 180) for p in positions_deg]
+    pos = positions_deg[int(np.argmin(d))]
+    off = math.radians(min(d))
+    # Add only the component that cancels along the chosen position.
+    add = mag * math.cos(off) / radius_mm if mag > 0 else 0.0
+    after = u_gmm + add * radius_mm * complex(math.cos(math.radians(pos)), math.sin(math.radians(pos)))
+    return Correction(
+        needed=mag > limit_gmm,
+        add_g=add,
+        radius_mm=radius_mm,
+        angle_deg=pos,
+        ideal_angle_deg=ideal,
+        residual_after_gmm=abs(after),
+        remove_g=mag / radius_mm,
+    )
+
+
+@dataclass(frozen=True)
+class WeighedMagnet:
+    id: str
+    mass_g: float
+
+
+class MassListError(ValueError):
+    """A bad magnet mass list; str() is one line naming the file, line and value."""
+
+
+def read_masses(text: str, source: str, expected: int) -> list[WeighedMagnet]:
+    """Parse `id,mass_g` CSV text; every problem is a MassListError with one line."""
+    rows = list(csv.reader(io.StringIO(text)))
+    rows = [(n + 1, r) for n, r in enumerate(rows) if r and any(c.strip() for c in r)]
+    if not rows:
+        raise MassListError(f"{source}: is empty; expected a header id,mass_g and {expected} rows")
+    line, header = rows[0]
+    if [c.strip().lower() for c in header] != ["id", "mass_g"]:
+        raise MassListError(f"{source}: line {line}: header {','.join(header)!r}: must be id,mass_g")
+    out: list[WeighedMagnet] = []
+    seen: set[str] = set()
+    for line, row in rows[1:]:
+        if len(row) != 2:
+            raise MassListError(f"{source}: line {line}: {','.join(row)!r}: need two fields, id,mass_g")
+        ident, raw = row[0].strip(), row[1].strip()
+        if not ident:
+            raise MassListError(f"{source}: line {line}: id is missing")
+        if ident in seen:
+            raise MassListError(f"{source}: line {line}: id {ident!r} appears twice")
+        try:
+            mass = float(raw)
+        except ValueError:
+            raise MassListError(
+                f"{source}: line {line}: mass_g = {raw!r}: must be a number in grams"
+            ) from None
+        if not math.isfinite(mass) or mass <= 0:
+            raise MassListError(
+                f"{source}: line {line}: mass_g = {raw}: must be a positive mass in grams"
+            )
+        seen.add(ident)
+        out.append(WeighedMagnet(ident, mass))
+    if len(out) != expected:
+        raise MassListError(f"{source}: {len(out)} magnets listed: the rotor takes {expected}")
+    return out
+
+
+def monte_carlo_unbalance(
+    nominal_g: float, tolerance_pct: float, angles_rad: np.ndarray, radius_mm: float, seed: int = 1
+) -> np.ndarray:
+    """|U| (g·mm) of one disc with magnets of uniformly random mass within ±tolerance, placed
+    as they come. A tolerance band read as a uniform spread is the pessimistic reading
+    (common practice)."""
+    rng = np.random.default_rng(seed)
+    n = len(angles_rad)
+    masses = nominal_g * (1 + rng.uniform(-1, 1, (MONTE_CARLO_TRIALS, n)) * tolerance_pct / 100)
+    e = np.exp(1j * np.asarray(angles_rad)) * radius_mm
+    return np.abs(masses @ e)
