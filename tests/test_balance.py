@@ -1,0 +1,151 @@
+"""Balance: ISO 21940-11 limits, placement of weighed magnets, mass lists."""
+
+from __future__ import annotations
+
+import itertools
+import math
+
+import numpy as np
+import pytest
+
+from layout.balance import (
+    MassListError,
+    best_placement,
+    correction_for,
+    monte_carlo_unbalance,
+    permissible_unbalance_gmm,
+    plane_allowances,
+    read_masses,
+    split_between_discs,
+    unbalance_vector,
+)
+
+
+def test_iso_worked_value():
+    # ISO 21940-11:2016 (and ISO 1940-1): G6.3, 5 kg rotor at 3000 rpm -> about 100 g·mm.
+    assert permissible_unbalance_gmm(6.3, 5.0, 3000) == pytest.approx(100.0, rel=0.005)
+
+
+def test_limit_scales_with_mass_and_inverse_speed():
+    base = permissible_unbalance_gmm(2.5, 3.0, 600)
+    assert permissible_unbalance_gmm(2.5, 6.0, 600) == pytest.approx(2 * base)
+    assert permissible_unbalance_gmm(2.5, 3.0, 1200) == pytest.approx(base / 2)
+
+
+def test_plane_allowances_split_inversely_to_distance():
+    # ISO 21940-11 allocation to two planes: U_A = U·b/(a+b), U_B = U·a/(a+b).
+    a, b = plane_allowances(100.0, 10.0, 30.0)
+    assert (a, b) == pytest.approx((75.0, 25.0))
+    assert plane_allowances(100.0, 20.0, 20.0) == pytest.approx((50.0, 50.0))
+
+
+def test_symmetric_disc_has_no_unbalance():
+    n = 12
+    ang = 2 * np.pi * np.arange(n) / n
+    assert abs(unbalance_vector(np.full(n, 42.0), ang, 90.0)) < 1e-9
+
+
+def test_known_off_centre_mass_gives_m_times_r():
+    n = 8
+    ang = 2 * np.pi * np.arange(n) / n
+    masses = np.full(n, 30.0)
+    masses[3] += 2.5  # 2.5 g extra at pocket 4, radius 100 mm -> 250 g·mm at 135°
+    u = unbalance_vector(masses, ang, 100.0)
+    assert abs(u) == pytest.approx(250.0)
+    assert math.degrees(math.atan2(u.imag, u.real)) == pytest.approx(135.0)
+
+
+def _brute_optimum(m, ang, r, base=0j):
+    return min(
+        abs(base + unbalance_vector(m[list(p)], ang, r)) for p in itertools.permutations(range(len(m)))
+    )
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_placement_reaches_the_optimum_on_small_rings(seed):
+    rng = np.random.default_rng(seed)
+    n = 7
+    m = 50 * (1 + rng.uniform(-0.03, 0.03, n))
+    ang = 2 * np.pi * np.arange(n) / n
+    perm = best_placement(m, ang, 80.0, base_gmm=5 + 3j)
+    got = abs(5 + 3j + unbalance_vector(m[perm], ang, 80.0))
+    assert got == pytest.approx(_brute_optimum(m, ang, 80.0, 5 + 3j), abs=1e-9)
+    assert sorted(perm) == list(range(n))
+
+
+@pytest.mark.parametrize("n", [10, 16, 24, 36])
+def test_placement_never_worse_than_listed_order(n):
+    rng = np.random.default_rng(n)
+    m = 60 * (1 + rng.uniform(-0.02, 0.02, n))
+    ang = 2 * np.pi * np.arange(n) / n
+    perm = best_placement(m, ang, 100.0)
+    assert sorted(perm) == list(range(n))
+    assert abs(unbalance_vector(m[perm], ang, 100.0)) <= abs(unbalance_vector(m, ang, 100.0)) + 1e-12
+
+
+def test_split_between_discs_is_a_partition_with_close_totals():
+    rng = np.random.default_rng(5)
+    m = 60 * (1 + rng.uniform(-0.02, 0.02, 32))
+    a, b = split_between_discs(m, 16)
+    assert len(a) == len(b) == 16
+    assert sorted(np.concatenate([a, b])) == list(range(32))
+    assert abs(m[a].sum() - m[b].sum()) < 0.02 * 60
+
+
+def test_correction_opposite_the_unbalance():
+    u = complex(0, 200.0)  # 200 g·mm towards +y
+    c = correction_for(u, 50.0, 100.0, tuple(float(k * 30) for k in range(12)))
+    assert c.needed
+    assert c.ideal_angle_deg == pytest.approx(270.0)
+    assert c.angle_deg == pytest.approx(270.0)
+    assert c.add_g == pytest.approx(2.0)
+    assert c.residual_after_gmm == pytest.approx(0.0, abs=1e-9)
+    # Between two positions: the nearest one takes the cancelling component only.
+    c2 = correction_for(
+        complex(200.0 * math.cos(math.radians(100)), 200 * math.sin(math.radians(100))),
+        50.0,
+        100.0,
+        (0.0, 90.0, 180.0, 270.0),
+    )
+    assert c2.angle_deg == pytest.approx(270.0)
+    assert c2.residual_after_gmm == pytest.approx(200 * math.sin(math.radians(10)), rel=1e-6)
+
+
+def test_monte_carlo_grows_with_tolerance():
+    ang = 2 * np.pi * np.arange(16) / 16
+    lo = np.percentile(monte_carlo_unbalance(60.0, 0.5, ang, 100.0), 95)
+    hi = np.percentile(monte_carlo_unbalance(60.0, 2.0, ang, 100.0), 95)
+    assert hi == pytest.approx(4 * lo, rel=0.15)
+    # Uniform ±t on n independent masses: E|U|² = n·(m·r)²·t²/3 (variance of a uniform).
+    u = monte_carlo_unbalance(60.0, 1.0, ang, 100.0)
+    assert np.mean(u**2) == pytest.approx(16 * (60 * 100 * 0.01) ** 2 / 3, rel=0.1)
+
+
+GOOD = "id,mass_g\nA1,60.1\nA2,59.8\nA3,60.0\n"
+
+
+def test_read_masses_good():
+    got = read_masses(GOOD, "m.csv", 3)
+    assert [m.id for m in got] == ["A1", "A2", "A3"]
+    assert got[1].mass_g == pytest.approx(59.8)
+
+
+@pytest.mark.parametrize(
+    ("text", "expected", "words"),
+    [
+        ("", 3, "empty"),
+        ("name,grams\nA1,60\n", 1, "header"),
+        ("id,mass_g\nA1,60\nA1,61\nA3,60\n", 3, "twice"),
+        ("id,mass_g\nA1,60\nA2,60\n", 3, "rotor takes 3"),
+        ("id,mass_g\nA1,60\nA2,-4\nA3,60\n", 3, "positive"),
+        ("id,mass_g\nA1,60\nA2,heavy\nA3,60\n", 3, "number"),
+        ("id,mass_g\nA1,60\n,60\nA3,60\n", 3, "id is missing"),
+        ("id,mass_g\nA1,60,7\nA2,60\nA3,60\n", 3, "two fields"),
+        ("id,mass_g\nA1,nan\nA2,60\nA3,60\n", 3, "positive"),
+    ],
+)
+def test_bad_mass_lists_are_one_line(text, expected, words):
+    with pytest.raises(MassListError) as err:
+        read_masses(text, "m.csv", expected)
+    msg = str(err.value)
+    assert msg.startswith("m.csv: ") and "\n" not in msg and words in msg
