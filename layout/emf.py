@@ -87,7 +87,12 @@ def flux_map(geo: Geometry, magnets: int) -> FluxMap:
     z_eval = zs[zs >= -1e-9] if symmetric else zs
     rr, tt, zz = np.meshgrid(r, theta, z_eval, indexing="ij")
     pts = np.stack([rr * np.cos(tt), rr * np.sin(tt), zz], axis=-1).reshape(-1, 3)
-    probe = pts[:: max(1, len(pts) // 16)]
+    # Probes at the corners, edges and middle of the evaluated region (3 radii × 5 angles ×
+    # extreme planes) decide how many image orders and which far magnets are needed.
+    pr_, pt_, pz_ = np.meshgrid(
+        [r[0], r[nr // 2], r[-1]], np.linspace(theta[0], theta[-1], 5), [z_eval.min(), z_eval.max()]
+    )
+    probe = np.stack([pr_ * np.cos(pt_), pr_ * np.sin(pt_), pz_], axis=-1).reshape(-1, 3)
     sources = near_sources(image_sources(geo, probe), probe)
     b = bz(sources, pts).reshape(nr, nt, len(z_eval))
     if symmetric:
