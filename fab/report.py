@@ -357,7 +357,7 @@ def _output_text(design: Design) -> str:
     ]
     rows = [
         [
-            op.rpm,
+            int(round(op.rpm)),
             op.dc_voltage_v,
             op.dc_current_a,
             op.dc_power_w,
@@ -365,7 +365,7 @@ def _output_text(design: Design) -> str:
             op.rectifier_loss_w,
             op.efficiency,
             op.current_density_a_mm2,
-            round(op.coil_temperature_c),
+            int(round(op.coil_temperature_c)),
         ]
         for op in pr.curve
     ]

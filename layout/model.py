@@ -155,20 +155,35 @@ def predict(spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf) -> Predict
     """Size the winding for the target and predict its output over the speed range."""
     ta = spec.target
     vf = ta.diode_drop_v
-    star = spec.connection.kind == "star"
     per_turn_peak = _rectified_peak_per_turn(emf)
     if ta.kind == "battery":
         v_cut = ta.battery_v + 2 * vf
         turns = max(1, round(v_cut / (per_turn_peak * _omega(ta.cut_in_rpm))))
         load = Load("battery", ta.battery_resistance_ohm, ta.battery_v)
-    elif ta.kind == "dc":
-        v_cut = ta.voltage_v + 2 * vf
-        turns = _turns_for_dc(spec, geo, layout, emf, per_turn_peak)
-        load = Load("resistor", ta.voltage_v / ta.rated_current_a)
-    else:
-        v_cut = ta.voltage_v * math.sqrt(2)
-        turns = _turns_for_ac(spec, geo, layout, emf)
-        load = None
+        return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak)
+    # A loaded target must hold with the coils warm: size at ambient, then again at the
+    # coil temperature the rated point reaches, until the rated point meets the target.
+    size_c = ta.ambient_c
+    for _ in range(4):
+        if ta.kind == "dc":
+            v_cut = ta.voltage_v + 2 * vf
+            turns = _turns_for_dc(spec, geo, layout, emf, per_turn_peak, size_c)
+            load = Load("resistor", ta.voltage_v / ta.rated_current_a)
+        else:
+            v_cut = ta.voltage_v * math.sqrt(2)
+            turns = _turns_for_ac(spec, geo, layout, emf, size_c)
+            load = None
+        pred = _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak)
+        if pred.rated.dc_voltage_v >= ta.voltage_v * (1 - 1e-9):
+            break
+        size_c = pred.rated.coil_temperature_c
+    return pred
+
+
+def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Prediction:
+    """Wire, R, L and the output curve for a given number of turns."""
+    ta = spec.target
+    star = spec.connection.kind == "star"
     cu = _copper(spec, geo, layout, turns)
     if cu is None:
         raise spec.fail(
@@ -261,7 +276,7 @@ def predict(spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf) -> Predict
     )
 
 
-def _turns_for_dc(spec, geo, layout, emf, per_turn_peak) -> int:
+def _turns_for_dc(spec, geo, layout, emf, per_turn_peak, temp_c: float) -> int:
     """Fewest turns that deliver target.voltage_v at rated_current_a and rated_rpm."""
     ta = spec.target
     load = Load("resistor", ta.voltage_v / ta.rated_current_a)
@@ -270,7 +285,7 @@ def _turns_for_dc(spec, geo, layout, emf, per_turn_peak) -> int:
         cu = _copper(spec, geo, layout, n)
         if cu is None:
             return None
-        res = _simulate(spec, layout, emf, n, cu[3], cu[4], np.array([ta.rated_rpm]), load, [ta.ambient_c])
+        res = _simulate(spec, layout, emf, n, cu[3], cu[4], np.array([ta.rated_rpm]), load, [temp_c])
         return float(res.dc_voltage_v[0])
 
     return _fewest_turns(
@@ -278,7 +293,7 @@ def _turns_for_dc(spec, geo, layout, emf, per_turn_peak) -> int:
     )
 
 
-def _turns_for_ac(spec, geo, layout, emf) -> int:
+def _turns_for_ac(spec, geo, layout, emf, temp_c: float) -> int:
     ta = spec.target
     star = spec.connection.kind == "star"
     v_ph = ta.voltage_v / math.sqrt(3) if star else ta.voltage_v
@@ -288,7 +303,8 @@ def _turns_for_ac(spec, geo, layout, emf) -> int:
         cu = _copper(spec, geo, layout, n)
         if cu is None:
             return None
-        _, _, v = _ac_line_output(spec, layout, emf, n, cu[3], cu[4], ta.rated_rpm, v_ph / i_ph)
+        r_hot = cu[3] * copper_resistivity(temp_c) / copper_resistivity(20.0)
+        _, _, v = _ac_line_output(spec, layout, emf, n, r_hot, cu[4], ta.rated_rpm, v_ph / i_ph)
         return float(v) * (ta.voltage_v / v_ph)
 
     e_turn = float(rms(emf.phase_v[0])) * float(_omega(ta.rated_rpm))

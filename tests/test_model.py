@@ -6,6 +6,7 @@ import dataclasses
 import functools
 import json
 import math
+import tomllib
 from pathlib import Path
 
 import numpy as np
@@ -15,12 +16,13 @@ from fab.report import plan_json
 from layout import model
 from layout.circuit import Load
 from layout.design import Design, compute_design
-from layout.spec import DesignError, Spec, load_spec
+from layout.spec import DesignError, Spec, load_spec, parse_spec
 
 DESIGNS = Path(__file__).resolve().parents[1] / "designs"
 DEMOS = ("hilltop", "millrace", "pedalbox")
 BATTERY_DEMOS = ("hilltop", "millrace")
 INCH_MM = 25.4
+
 
 @functools.cache
 def demo_spec(name: str) -> Spec:
@@ -72,9 +74,7 @@ def simulate_at(d: Design, turns: int, rpms, load: Load):
     )
 
 
-@pytest.mark.parametrize(
-    "name", ["millrace", "hilltop"]
-)
+@pytest.mark.parametrize("name", ["millrace", "hilltop"])
 def test_the_bridge_starts_conducting_at_the_reported_cut_in(name):
     d = design(name)
     ta, cut = d.spec.target, d.prediction.cut_in_rpm
@@ -84,9 +84,7 @@ def test_the_bridge_starts_conducting_at_the_reported_cut_in(name):
     assert res.dc_current_a[1] > 1e-3
 
 
-@pytest.mark.parametrize(
-    "name", ["millrace", "hilltop"]
-)
+@pytest.mark.parametrize("name", ["millrace", "hilltop"])
 def test_curve_is_zero_below_cut_in_and_rises_above(name):
     pr = design(name).prediction
     below = [op for op in pr.curve if op.rpm < pr.cut_in_rpm]
@@ -335,3 +333,29 @@ def test_plan_json_contract(name):
     for w in doc["warnings"]:
         assert set(w) == {"code", "severity", "message"}
         assert all(isinstance(v, str) and v for v in w.values())
+
+
+def test_ac_line_target_is_met_with_the_fewest_turns():
+    # A variant of millrace sized for 40 V AC line at 3 A (balanced resistive load, no
+    # bridge): the fundamental phasor solution E² = (V + IR)² + (IX)² per phase.
+    text = (DESIGNS / "millrace.toml").read_text(encoding="utf-8")
+    text = text.replace('kind = "battery"', 'kind = "ac_line"\nvoltage_v = 40.0\nrated_current_a = 3.0')
+    text = text.replace("battery_v = 48.0\n", "").replace("cut_in_rpm = 210.0\n", "")
+    spec = parse_spec(tomllib.loads(text), "ac.toml")
+    d = compute_design(spec)
+    pr = d.prediction
+    assert pr.rated.dc_voltage_v >= 40.0  # line voltage for an ac_line target
+    # One turn fewer: the loaded line voltage falls short.
+    cu = model._copper(spec, d.geometry, d.layout, pr.turns_per_coil - 1)
+    v_ph_target = 40.0 / math.sqrt(3)
+    _, _, v_ph = model._ac_line_output(
+        spec,
+        d.layout,
+        pr.emf,
+        pr.turns_per_coil - 1,
+        cu[3] * model.copper_resistivity(pr.rated.coil_temperature_c) / model.copper_resistivity(20.0),
+        cu[4],
+        300.0,
+        v_ph_target / 3.0,
+    )
+    assert float(v_ph) * math.sqrt(3) < 40.0
