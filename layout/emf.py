@@ -25,7 +25,7 @@ from layout.winding import Layout
 RADIAL_CELL_MM = 3.5  # radial sampling of the field over the coil
 FIELD_SAMPLES_PER_POLE = 10  # harmonics up to the 9th of the electrical frequency
 FINE_PER_PERIOD = 192  # rotor steps per electrical period for the integral
-Z_NODES = 3  # Gauss–Legendre nodes through the coil thickness
+Z_NODES = 2  # Gauss–Legendre nodes through the coil thickness
 
 
 @dataclass(frozen=True)
