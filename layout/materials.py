@@ -101,3 +101,27 @@ EPOXY_DENSITY_G_CM3 = 1.15  # common handbook value
 COPPER_RESISTIVITY_20C_OHM_MM2_PER_M = 1.0 / 58.0
 COPPER_TEMP_COEFF_PER_K = 0.00393
 COPPER_DENSITY_G_CM3 = 8.89  # IEC 60028 annealed copper
+
+
+@dataclass(frozen=True)
+class Thread:
+    name: str
+    diameter_mm: float  # nominal (major) diameter
+    pitch_mm: float
+    tap_drill_mm: float  # hole to tap the thread into
+    clearance_mm: float  # hole the screw passes through
+
+
+# ISO metric coarse threads: pitches per ISO 261, tap drill ≈ diameter − pitch (common
+# practice), clearance holes of the medium series of ISO 273 (all from memory).
+METRIC_THREADS: dict[str, Thread] = {
+    t.name: t
+    for t in (
+        Thread("M5", 5.0, 0.8, 4.2, 5.5),
+        Thread("M6", 6.0, 1.0, 5.0, 6.6),
+        Thread("M8", 8.0, 1.25, 6.8, 9.0),
+        Thread("M10", 10.0, 1.5, 8.5, 11.0),
+        Thread("M12", 12.0, 1.75, 10.2, 13.5),
+        Thread("M16", 16.0, 2.0, 14.0, 17.5),
+    )
+}

@@ -17,7 +17,7 @@ import typing
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from layout.materials import DISC_MATERIALS, MAGNET_GRADES, STATOR_BINDERS_MAX_C
+from layout.materials import DISC_MATERIALS, MAGNET_GRADES, METRIC_THREADS, STATOR_BINDERS_MAX_C
 
 
 class DesignError(ValueError):
@@ -77,6 +77,9 @@ class StatorSpec:
     wire_standard: str = rule("awg", choices=("awg", "metric"))
     max_wire_diameter_mm: float = rule(1.6, gt=0.1, le=5)
     mould_wall_mm: float = rule(10.0, gt=0, le=100)
+    resin_rim_mm: float = rule(8.0, gt=0, le=100)
+    mounting_lugs: int = rule(4, ge=3, le=24)
+    mounting_hole_diameter_mm: float = rule(11.0, gt=0, le=60)
 
 
 @dataclass(frozen=True)
@@ -103,6 +106,16 @@ class RotorSpec:
     bore_diameter_mm: float = rule(25.0, gt=0, le=1000)
     disc_outer_diameter_mm: float | None = rule(None, gt=0, le=4000)
     stator_plate_thickness_mm: float | None = rule(None, gt=0, le=100)
+    hub_bolt_circle_mm: float | None = rule(None, gt=0, le=2000)
+    hub_bolts: int = rule(4, ge=3, le=16)
+    hub_hole_diameter_mm: float = rule(9.0, gt=0, le=100)
+    dowel_diameter_mm: float = rule(6.0, gt=0, le=50)
+    pocket_clearance_mm: float | None = rule(None, ge=0, le=3)
+    pocket_depth_mm: float | None = rule(None, gt=0, le=100)
+    min_web_mm: float = rule(3.0, ge=0.5, le=50)
+    jacking_screw: str = rule("M10", choices=METRIC_THREADS)
+    jacking_screws: int = rule(3, ge=3, le=12, why="three or more hold the disc level")
+    jacking_circle_mm: float | None = rule(None, gt=0, le=2000)
 
 
 @dataclass(frozen=True)
@@ -126,6 +139,16 @@ class TargetSpec:
 
 
 @dataclass(frozen=True)
+class FabSpec:
+    kerf_mm: float = rule(0.0, ge=0, le=5)
+    winder_hole_diameter_mm: float = rule(8.5, gt=0, le=50)
+    jig_cheek_thickness_mm: float = rule(6.0, gt=0, le=50)
+    template_thickness_mm: float | None = rule(None, gt=0, le=50)
+    print_bed_mm: float = rule(250.0, gt=0, le=2000)
+    stl_tolerance_mm: float = rule(0.05, ge=0.005, le=1)
+
+
+@dataclass(frozen=True)
 class Spec:
     name: str
     purpose: str
@@ -135,6 +158,7 @@ class Spec:
     connection: ConnectionSpec
     target: TargetSpec
     source: str  # the file name shown in messages
+    fab: FabSpec = field(default_factory=FabSpec)
 
     def fail(self, key: str, value: object, allowed: str) -> DesignError:
         """An error about this design's `key` (dotted), for checks made after loading."""
@@ -147,7 +171,9 @@ _SECTIONS: dict[str, type] = {
     "rotor": RotorSpec,
     "connection": ConnectionSpec,
     "target": TargetSpec,
+    "fab": FabSpec,
 }
+_OPTIONAL_SECTIONS = ("fab",)  # every key has a default
 _TOP_KEYS = ("name", "purpose")
 
 
@@ -239,6 +265,8 @@ def parse_spec(data: dict, source: str) -> Spec:
     sections = {}
     for section, cls in _SECTIONS.items():
         if section not in data:
+            if section in _OPTIONAL_SECTIONS:
+                continue
             raise DesignError(source, f"[{section}]", None, "required table")
         sections[section] = _read_section(source, section, data[section], cls)
     spec = Spec(name=data["name"], purpose=data["purpose"], source=source, **sections)
@@ -320,12 +348,55 @@ def _check_consistency(spec: Spec) -> None:
             st.resin_cover_mm,
             f"two covers leave no room for coils in stator.thickness_mm = {st.thickness_mm:g}",
         )
+    _check_pockets(spec)
     inner = magnet_radial_extent_mm(mg)
     if mg.pitch_radius_mm - inner / 2 <= ro.bore_diameter_mm / 2:
         raise spec.fail(
             "magnets.pitch_radius_mm",
             mg.pitch_radius_mm,
             f"magnets reach into the bore (rotor.bore_diameter_mm = {ro.bore_diameter_mm:g})",
+        )
+
+
+MIN_POCKET_FLOOR_MM = 1.0  # thinner floors tear out of a printed or milled disc (common practice)
+
+
+def _check_pockets(spec: Spec) -> None:
+    """Pockets exist only in non-magnetic discs, and must leave a floor and the gap."""
+    ro, mg, fb = spec.rotor, spec.magnets, spec.fab
+    steel = DISC_MATERIALS[ro.disc_material].magnetic
+    if ro.pocket_depth_mm is not None:
+        if steel:
+            raise spec.fail(
+                "rotor.pocket_depth_mm",
+                ro.pocket_depth_mm,
+                f"only for non-magnetic discs: magnets sit on the face of a {ro.disc_material} disc",
+            )
+        if ro.pocket_depth_mm > mg.thickness_mm:
+            raise spec.fail(
+                "rotor.pocket_depth_mm",
+                ro.pocket_depth_mm,
+                f"at most magnets.thickness_mm ({mg.thickness_mm:g}): a deeper pocket puts the disc "
+                "nearer the stator than rotor.running_clearance_mm",
+            )
+        if ro.pocket_depth_mm > ro.disc_thickness_mm - MIN_POCKET_FLOOR_MM:
+            raise spec.fail(
+                "rotor.pocket_depth_mm",
+                ro.pocket_depth_mm,
+                f"at most {ro.disc_thickness_mm - MIN_POCKET_FLOOR_MM:g}: leave a floor of "
+                f"{MIN_POCKET_FLOOR_MM:g} mm in rotor.disc_thickness_mm = {ro.disc_thickness_mm:g}",
+            )
+    elif not steel and ro.disc_thickness_mm <= MIN_POCKET_FLOOR_MM + 0.5:
+        raise spec.fail(
+            "rotor.disc_thickness_mm",
+            ro.disc_thickness_mm,
+            f"too thin for magnet pockets; at least {MIN_POCKET_FLOOR_MM + 1:g} for {ro.disc_material}",
+        )
+    if fb.template_thickness_mm is not None and fb.template_thickness_mm > mg.thickness_mm:
+        raise spec.fail(
+            "fab.template_thickness_mm",
+            fb.template_thickness_mm,
+            f"at most magnets.thickness_mm ({mg.thickness_mm:g}): the magnets must stand proud of it",
         )
 
 

@@ -85,6 +85,48 @@ BAD_EDITS = [
      "rotor.stator_plate_thickness_mm", "(not given)", "required"),
     ("magnets reaching the bore", "millrace", "bore_diameter_mm = 35.0",
      "bore_diameter_mm = 180.0", "magnets.pitch_radius_mm", "105.0", "bore"),
+    # Build keys: rotor features, stator rim and lugs, the [fab] table.
+    ("pockets in a steel disc", "millrace", "disc_thickness_mm = 8.0",
+     "disc_thickness_mm = 8.0\npocket_depth_mm = 5", "rotor.pocket_depth_mm", "5",
+     "only for non-magnetic discs"),
+    ("pocket deeper than the magnet", "millrace", 'disc_material = "steel"\ndisc_thickness_mm = 8.0',
+     'disc_material = "pla"\ndisc_thickness_mm = 12.0\npocket_depth_mm = 10.5',
+     "rotor.pocket_depth_mm", "10.5", "at most magnets.thickness_mm (10)"),
+    ("pocket leaving no floor", "millrace", 'disc_material = "steel"\ndisc_thickness_mm = 8.0',
+     'disc_material = "pla"\ndisc_thickness_mm = 8.0\npocket_depth_mm = 7.5',
+     "rotor.pocket_depth_mm", "7.5", "at most 7: leave a floor"),
+    ("printed disc too thin for pockets", "millrace", 'disc_material = "steel"\ndisc_thickness_mm = 8.0',
+     'disc_material = "petg"\ndisc_thickness_mm = 1.2', "rotor.disc_thickness_mm", "1.2",
+     "too thin for magnet pockets"),
+    ("pocket clearance too large", "millrace", "bore_diameter_mm = 35.0",
+     "bore_diameter_mm = 35.0\npocket_clearance_mm = 5", "rotor.pocket_clearance_mm", "5", "at most 3"),
+    ("web too thin", "millrace", "bore_diameter_mm = 35.0", "bore_diameter_mm = 35.0\nmin_web_mm = 0.2",
+     "rotor.min_web_mm", "0.2", "at least 0.5"),
+    ("two hub bolts", "millrace", "bore_diameter_mm = 35.0", "bore_diameter_mm = 35.0\nhub_bolts = 2",
+     "rotor.hub_bolts", "2", "at least 3"),
+    ("hub hole of no size", "millrace", "bore_diameter_mm = 35.0",
+     "bore_diameter_mm = 35.0\nhub_hole_diameter_mm = 0", "rotor.hub_hole_diameter_mm", "0", "more than 0"),
+    ("unknown jacking screw", "millrace", "bore_diameter_mm = 35.0",
+     'bore_diameter_mm = 35.0\njacking_screw = "M9"', "rotor.jacking_screw", '"M9"', "must be one of M5, M6"),
+    ("two jacking screws", "millrace", "bore_diameter_mm = 35.0",
+     "bore_diameter_mm = 35.0\njacking_screws = 2", "rotor.jacking_screws", "2",
+     "at least 3 and at most 12 (three or more hold the disc level)"),
+    ("two mounting lugs", "millrace", "coil_clearance_mm = 1.5", "coil_clearance_mm = 1.5\nmounting_lugs = 2",
+     "stator.mounting_lugs", "2", "at least 3"),
+    ("no resin rim", "millrace", "coil_clearance_mm = 1.5", "coil_clearance_mm = 1.5\nresin_rim_mm = 0",
+     "stator.resin_rim_mm", "0", "more than 0"),
+    ("negative kerf", "millrace", "diode_drop_v = 0.9", "diode_drop_v = 0.9\n\n[fab]\nkerf_mm = -0.1",
+     "fab.kerf_mm", "-0.1", "at least 0"),
+    ("unknown key in [fab]", "millrace", "diode_drop_v = 0.9", "diode_drop_v = 0.9\n\n[fab]\nkerf = 0.1",
+     "fab.kerf", "0.1", "unknown key; allowed: kerf_mm"),
+    ("[fab] not a table", "millrace", 'name = "millrace"', 'fab = 3\nname = "millrace"',
+     "fab", "3", "must be a table ([fab])"),
+    ("template thicker than the magnets", "millrace", "diode_drop_v = 0.9",
+     "diode_drop_v = 0.9\n\n[fab]\ntemplate_thickness_mm = 12", "fab.template_thickness_mm", "12",
+     "at most magnets.thickness_mm (10)"),
+    ("STL tolerance too fine", "millrace", "diode_drop_v = 0.9",
+     "diode_drop_v = 0.9\n\n[fab]\nstl_tolerance_mm = 0.001", "fab.stl_tolerance_mm", "0.001",
+     "at least 0.005"),
 ]  # fmt: skip
 
 
@@ -101,6 +143,8 @@ def test_demo_designs_load(demo):
     # Keys left out take their defaults.
     assert spec.connection.parallel_paths == raw["connection"].get("parallel_paths", 1)
     assert spec.stator.empty_positions == ()
+    # The [fab] table is optional; every key of it has a default.
+    assert spec.fab.kerf_mm == raw.get("fab", {}).get("kerf_mm", 0.0)
 
 
 def one_line_error(path: Path) -> str:
