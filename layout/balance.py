@@ -196,9 +196,7 @@ def read_masses(text: str, source: str, expected: int) -> list[WeighedMagnet]:
                 f"{source}: line {line}: mass_g = {raw!r}: must be a number in grams"
             ) from None
         if not math.isfinite(mass) or mass <= 0:
-            raise MassListError(
-                f"{source}: line {line}: mass_g = {raw}: must be a positive mass in grams"
-            )
+            raise MassListError(f"{source}: line {line}: mass_g = {raw}: must be a positive mass in grams")
         seen.add(ident)
         out.append(WeighedMagnet(ident, mass))
     if len(out) != expected:
@@ -217,3 +215,212 @@ def monte_carlo_unbalance(
     masses = nominal_g * (1 + rng.uniform(-1, 1, (MONTE_CARLO_TRIALS, n)) * tolerance_pct / 100)
     e = np.exp(1j * np.asarray(angles_rad)) * radius_mm
     return np.abs(masses @ e)
+
+
+@dataclass(frozen=True)
+class PocketAssignment:
+    pocket: int  # 1..P, pocket 1 at 0°, counted the way the angles increase
+    magnet: str  # magnet id from the mass list, or "any" without one
+    face: str  # "N" or "S": the face that is up with the disc lying magnet side up
+    mass_g: float
+
+
+@dataclass(frozen=True)
+class DiscBalance:
+    disc: int  # 1 lower (or only), 2 upper
+    mass_kg: float  # disc with magnets
+    unbalance_before_gmm: float  # magnets in listed order (nominal: the disc alone)
+    unbalance_after_gmm: float  # with the assignment below
+    permissible_gmm: float  # this disc's share of U_per (its correction plane)
+    assignment: tuple[PocketAssignment, ...]
+    correction: Correction
+
+
+@dataclass(frozen=True)
+class RotorBalance:
+    grade: str
+    grade_mm_s: float
+    max_rpm: float
+    rotor_mass_kg: float
+    permissible_gmm: float  # whole rotor, ISO 21940-11
+    discs: tuple[DiscBalance, ...]
+    static_unbalance_gmm: float  # |U1 + U2|
+    couple_unbalance_gmm_mm: float  # |U1 − U2|·spacing/2, g·mm²
+    weighed: bool
+    expected_unweighed_p95_gmm: float  # Monte Carlo, magnets as they come, per disc
+    weighing_advice: str
+    procedure: tuple[str, ...]
+    cautions: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class DiscBody:
+    """A bare rotor disc as built: its mass and where its centre of mass lies."""
+
+    disc: int
+    mass_kg: float
+    com_offset_mm: tuple[float, float]  # from the shaft axis, in the disc's plane
+    z_mm: float  # axial position of its mid-plane
+
+
+BENCH_PROCEDURE = (
+    "Fit the disc, with its magnets set and cured, on a true shaft and rest the shaft on two "
+    "level knife edges or straight rails (or a balancing stand).",
+    "Let it roll and settle three times from different starting angles; if it stops with the "
+    "same point down each time, that point is heavy.",
+    "Tape a trial mass at the balance position opposite the heavy point; increase it until the "
+    "disc stays where it is put at any angle.",
+    "Fix the final mass (screw, rivet or epoxied steel) at that position or remove the same "
+    "mass from the heavy side; repeat the check.",
+    "With two discs, balance each disc alone, then mount both and check again.",
+)
+CAUTIONS = (
+    "Guard the rotor before the first spin; nobody stands in the plane of the discs.",
+    "First spins slow, by hand or at a fraction of the rated speed; stop at any knock, rub or vibration.",
+    "Magnets snap onto steel and each other: keep them apart, handle one at a time, wear eye "
+    "protection; keep them away from anyone with a pacemaker.",
+)
+
+
+def nominal_disc_bodies(design) -> tuple[DiscBody, ...]:
+    """Bare discs as perfect annuli (no solids built): centred, mass from the model."""
+    out = []
+    for disc in sorted({m.disc for m in design.geometry.magnets}):
+        z = next(m.center_mm[2] for m in design.geometry.magnets if m.disc == disc)
+        out.append(DiscBody(disc, design.forces.disc_mass_kg, (0.0, 0.0), z))
+    return tuple(out)
+
+
+def balance_positions(design) -> tuple[float, tuple[float, ...]]:
+    """Radius and angles (°) of the correction positions on each disc.
+
+    Halfway between two magnets, on a ring just inside the disc's rim: as far out as the rim
+    allows, for the most correction per gram, and clear of the pockets.
+    """
+    mg = design.spec.magnets
+    r_out = design.forces.disc_outer_radius_mm
+    rim = r_out - mg.pitch_radius_mm
+    radius = r_out - min(6.0, rim / 2)
+    angles = tuple(360.0 * (k + 0.5) / mg.count for k in range(mg.count))
+    return radius, angles
+
+
+def _face(disc: int, polarization_t: float) -> str:
+    # Disc 1 lies magnets up as it will run; disc 2 is placed magnet side up on the bench,
+    # so its stator-facing side shows: a +z magnet there shows its S face.
+    up_is_north = polarization_t > 0 if disc == 1 else polarization_t < 0
+    return "N" if up_is_north else "S"
+
+
+def balance_rotor(
+    design,
+    bodies: tuple[DiscBody, ...],
+    masses: list[WeighedMagnet] | None,
+    grade: str = "G6.3",
+) -> RotorBalance:
+    """ISO 21940-11 check of every disc and, with weighed magnets, where each one goes."""
+    spec = design.spec
+    mg = spec.magnets
+    g = GRADES[grade]
+    rpm = spec.target.max_rpm
+    r = mg.pitch_radius_mm
+    nominal_g = design.forces.magnet_mass_g
+    per_disc = mg.count
+    discs = [b.disc for b in bodies]
+    mags = {d: [m for m in design.geometry.magnets if m.disc == d] for d in discs}
+    ang = {d: np.radians([m.rotation_deg for m in mags[d]]) for d in discs}
+    if masses is not None:
+        listed = np.array([m.mass_g for m in masses])
+        ids = [m.id for m in masses]
+        listed_sets = {d: np.arange(k * per_disc, (k + 1) * per_disc) for k, d in enumerate(discs)}
+        if len(discs) == 2:
+            a, b = split_between_discs(listed, per_disc)
+            chosen = {discs[0]: a, discs[1]: b}
+        else:
+            chosen = {discs[0]: np.arange(per_disc)}
+    rotor_mass = sum(b.mass_kg for b in bodies) + len(discs) * per_disc * nominal_g / 1000
+    if masses is not None:
+        rotor_mass = sum(b.mass_kg for b in bodies) + float(np.sum([m.mass_g for m in masses])) / 1000
+    u_per = permissible_unbalance_gmm(g, rotor_mass, rpm)
+    if len(bodies) == 2:
+        zc = sum(b.z_mm * b.mass_kg for b in bodies) / sum(b.mass_kg for b in bodies)
+        share = plane_allowances(u_per, abs(bodies[0].z_mm - zc), abs(bodies[1].z_mm - zc))
+    else:
+        share = (u_per,)
+    bal_r, bal_angles = balance_positions(design)
+    out: list[DiscBalance] = []
+    vectors = []
+    p95 = 0.0
+    for k, body in enumerate(bodies):
+        d = body.disc
+        base = complex(*body.com_offset_mm) * body.mass_kg * 1000  # g·mm
+        spread = monte_carlo_unbalance(nominal_g, mg.mass_tolerance_pct, ang[d], r)
+        p95 = max(p95, float(np.percentile(np.abs(base + spread), 95)))
+        if masses is None:
+            before = after = base + unbalance_vector(np.full(per_disc, nominal_g), ang[d], r)
+            assignment = tuple(
+                PocketAssignment(j + 1, "any", _face(d, m.polarization_t), nominal_g)
+                for j, m in enumerate(mags[d])
+            )
+            mass_kg = body.mass_kg + per_disc * nominal_g / 1000
+        else:
+            before = base + unbalance_vector(listed[listed_sets[d]], ang[d], r)
+            pool = chosen[d]
+            perm = best_placement(listed[pool], ang[d], r, base)
+            placed = pool[perm]
+            after = base + unbalance_vector(listed[placed], ang[d], r)
+            assignment = tuple(
+                PocketAssignment(j + 1, ids[placed[j]], _face(d, m.polarization_t), float(listed[placed[j]]))
+                for j, m in enumerate(mags[d])
+            )
+            mass_kg = body.mass_kg + float(listed[placed].sum()) / 1000
+        vectors.append(after)
+        corr = correction_for(after, share[k], bal_r, bal_angles)
+        out.append(
+            DiscBalance(
+                disc=d,
+                mass_kg=mass_kg,
+                unbalance_before_gmm=abs(before),
+                unbalance_after_gmm=abs(after),
+                permissible_gmm=share[k],
+                assignment=assignment,
+                correction=corr,
+            )
+        )
+    static = abs(sum(vectors))
+    couple = 0.0
+    if len(bodies) == 2:
+        couple = abs(vectors[0] - vectors[1]) * abs(bodies[0].z_mm - bodies[1].z_mm) / 2
+    limit = min(share)
+    if masses is not None:
+        advice = "Magnets placed from their weighed masses as listed below."
+    elif p95 > limit:
+        advice = (
+            f"Weigh and sort the magnets: placed as they come, 1 rotor in 20 would exceed "
+            f"{p95:.0f} g·mm against {limit:.0f} g·mm allowed at {rpm:g} rpm."
+        )
+    elif p95 > 0.3 * limit:
+        advice = (
+            f"Weighing is worth it: unsorted magnets use up to {p95 / limit:.0%} of the "
+            f"{limit:.0f} g·mm allowed at {rpm:g} rpm (1 rotor in 20)."
+        )
+    else:
+        advice = (
+            f"Weighing is not needed at {rpm:g} rpm: unsorted magnets stay under "
+            f"{p95:.1f} g·mm against {limit:.0f} g·mm allowed (1 rotor in 20)."
+        )
+    return RotorBalance(
+        grade=grade,
+        grade_mm_s=g,
+        max_rpm=rpm,
+        rotor_mass_kg=rotor_mass,
+        permissible_gmm=u_per,
+        discs=tuple(out),
+        static_unbalance_gmm=static,
+        couple_unbalance_gmm_mm=couple,
+        weighed=masses is not None,
+        expected_unweighed_p95_gmm=p95,
+        weighing_advice=advice,
+        procedure=BENCH_PROCEDURE,
+        cautions=CAUTIONS,
+    )

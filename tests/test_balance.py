@@ -2,23 +2,31 @@
 
 from __future__ import annotations
 
+import functools
 import itertools
 import math
+from pathlib import Path
 
 import numpy as np
 import pytest
 
 from layout.balance import (
+    DiscBody,
     MassListError,
+    WeighedMagnet,
+    balance_rotor,
     best_placement,
     correction_for,
     monte_carlo_unbalance,
+    nominal_disc_bodies,
     permissible_unbalance_gmm,
     plane_allowances,
     read_masses,
     split_between_discs,
     unbalance_vector,
 )
+from layout.design import compute_design
+from layout.spec import load_spec
 
 
 def test_iso_worked_value():
@@ -149,3 +157,59 @@ def test_bad_mass_lists_are_one_line(text, expected, words):
         read_masses(text, "m.csv", expected)
     msg = str(err.value)
     assert msg.startswith("m.csv: ") and "\n" not in msg and words in msg
+
+
+# --- the rotor of a demo ---------------------------------------------------------------------
+
+
+@functools.cache
+def _design(name):
+    return compute_design(load_spec(Path(__file__).resolve().parents[1] / "designs" / f"{name}.toml"))
+
+
+def test_nominal_rotor_of_perfect_parts_is_balanced():
+    d = _design("millrace")
+    rb = balance_rotor(d, nominal_disc_bodies(d), None)
+    assert len(rb.discs) == 2
+    for disc in rb.discs:
+        assert disc.unbalance_after_gmm < 1e-6
+        assert not disc.correction.needed
+        assert disc.permissible_gmm == pytest.approx(rb.permissible_gmm / 2)
+    # U_per at max_rpm for the whole rotor (ISO 21940-11).
+    assert rb.permissible_gmm == pytest.approx(1000 * 6.3 * rb.rotor_mass_kg / (550 * 2 * math.pi / 60))
+
+
+def test_faces_alternate_and_facing_pockets_are_opposite_faces_up():
+    d = _design("millrace")
+    rb = balance_rotor(d, nominal_disc_bodies(d), None)
+    one, two = rb.discs
+    faces1 = [a.face for a in one.assignment]
+    assert faces1[:4] == ["N", "S", "N", "S"]
+    # Facing magnets attract across the gap (N faces S): with both discs lying magnet side
+    # up on the bench, the same pocket shows opposite faces.
+    assert all(a.face != b.face for a, b in zip(one.assignment, two.assignment, strict=True))
+
+
+def test_weighed_magnets_are_placed_better_than_listed_and_all_used_once():
+    d = _design("millrace")
+    rng = np.random.default_rng(7)
+    masses = [WeighedMagnet(f"M{i + 1}", 60 * (1 + rng.uniform(-0.015, 0.015))) for i in range(32)]
+    rb = balance_rotor(d, nominal_disc_bodies(d), masses)
+    used = [a.magnet for disc in rb.discs for a in disc.assignment]
+    assert sorted(used) == sorted(m.id for m in masses)
+    for disc in rb.discs:
+        assert disc.unbalance_after_gmm <= disc.unbalance_before_gmm
+    # A heavy disc body off centre is compensated by the placement where it can be.
+    assert rb.weighed
+
+
+def test_off_centre_disc_body_shows_as_unbalance_and_gets_a_correction():
+    d = _design("hilltop")
+    (body,) = nominal_disc_bodies(d)
+    heavy = DiscBody(body.disc, body.mass_kg, (2.0, 0.0), body.z_mm)  # 2 mm off centre
+    rb = balance_rotor(d, (heavy,), None, grade="G2.5")
+    (disc,) = rb.discs
+    assert disc.unbalance_after_gmm == pytest.approx(body.mass_kg * 1000 * 2.0, rel=1e-9)
+    assert disc.correction.needed
+    # Correction goes opposite the heavy side (the +x axis): near 180°.
+    assert abs(disc.correction.ideal_angle_deg - 180.0) < 1e-9
