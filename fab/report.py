@@ -401,3 +401,82 @@ def _warnings_text(design: Design) -> str:
         "and licensed practice for anything connected to a building's wiring."
     )
     return "\n".join(lines)
+
+
+def balance_json(rb) -> dict:
+    """The `balance --json` view of a layout.balance.RotorBalance."""
+    return {
+        "grade": rb.grade,
+        "grade_mm_s": rb.grade_mm_s,
+        "max_rpm": rb.max_rpm,
+        "rotor_mass_kg": _r(rb.rotor_mass_kg, 4),
+        "permissible_gmm": _r(rb.permissible_gmm, 3),
+        "static_unbalance_gmm": _r(rb.static_unbalance_gmm, 3),
+        "couple_unbalance_gmm_mm": _r(rb.couple_unbalance_gmm_mm, 2),
+        "weighed": rb.weighed,
+        "expected_unweighed_p95_gmm": _r(rb.expected_unweighed_p95_gmm, 3),
+        "weighing_advice": rb.weighing_advice,
+        "discs": [
+            {
+                "disc": d.disc,
+                "mass_kg": _r(d.mass_kg, 4),
+                "unbalance_before_gmm": _r(d.unbalance_before_gmm, 3),
+                "unbalance_after_gmm": _r(d.unbalance_after_gmm, 3),
+                "permissible_gmm": _r(d.permissible_gmm, 3),
+                "assignment": [
+                    {"pocket": a.pocket, "magnet": a.magnet, "face": a.face, "mass_g": _r(a.mass_g, 3)}
+                    for a in d.assignment
+                ],
+                "correction": {
+                    "needed": d.correction.needed,
+                    "add_g": _r(d.correction.add_g, 3),
+                    "radius_mm": _r(d.correction.radius_mm, 2),
+                    "angle_deg": _r(d.correction.angle_deg, 2),
+                    "ideal_angle_deg": _r(d.correction.ideal_angle_deg, 2),
+                    "residual_after_gmm": _r(d.correction.residual_after_gmm, 3),
+                    "remove_g": _r(d.correction.remove_g, 3),
+                },
+            }
+            for d in rb.discs
+        ],
+        "procedure": list(rb.procedure),
+        "cautions": list(rb.cautions),
+    }
+
+
+def balance_text(rb, name: str) -> str:
+    out = [
+        f"{name}: rotor balance, ISO 21940-11 grade {rb.grade} at {rb.max_rpm:g} rpm",
+        f"Rotor {rb.rotor_mass_kg:.2f} kg: permissible residual unbalance {rb.permissible_gmm:.1f} g·mm",
+        rb.weighing_advice,
+        "",
+    ]
+    rows = []
+    for d in rb.discs:
+        c = d.correction
+        fix = (
+            f"add {c.add_g:.1f} g at {c.radius_mm:.0f} mm, {c.angle_deg:.1f}° (or remove {c.remove_g:.1f} g "
+            f"at {(c.ideal_angle_deg + 180) % 360:.1f}°)"
+            if c.needed
+            else "none needed"
+        )
+        rows.append(
+            [d.disc, d.mass_kg, d.unbalance_before_gmm, d.unbalance_after_gmm, d.permissible_gmm, fix]
+        )
+    out.append(
+        table(["disc", "mass_kg", "before_gmm", "after_gmm", "allowed_gmm", "correction"], rows, "Discs")
+    )
+    if len(rb.discs) == 2:
+        out.append(
+            f"static unbalance {rb.static_unbalance_gmm:.2f} g·mm, "
+            f"couple unbalance {rb.couple_unbalance_gmm_mm:.0f} g·mm²"
+        )
+    for d in rb.discs:
+        out.append("")
+        rows = [[a.pocket, a.magnet, a.face, a.mass_g] for a in d.assignment]
+        title = f"Disc {d.disc}: pocket → magnet (face up with the disc lying magnet side up)"
+        out.append(table(["pocket", "magnet", "face_up", "mass_g"], rows, title))
+    out += ["", "Static check before the first spin:"]
+    out += [f"  {k}. {step}" for k, step in enumerate(rb.procedure, 1)]
+    out += ["", "Cautions:"] + [f"  - {c}" for c in rb.cautions]
+    return "\n".join(out)
