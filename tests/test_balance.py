@@ -2,13 +2,12 @@
 
 from __future__ import annotations
 
-import functools
 import itertools
 import math
-from pathlib import Path
 
 import numpy as np
 import pytest
+from demos import design
 
 from layout.balance import (
     DiscBody,
@@ -25,8 +24,6 @@ from layout.balance import (
     split_between_discs,
     unbalance_vector,
 )
-from layout.design import compute_design
-from layout.spec import load_spec
 
 
 def test_iso_worked_value():
@@ -162,13 +159,8 @@ def test_bad_mass_lists_are_one_line(text, expected, words):
 # --- the rotor of a demo ---------------------------------------------------------------------
 
 
-@functools.cache
-def _design(name):
-    return compute_design(load_spec(Path(__file__).resolve().parents[1] / "designs" / f"{name}.toml"))
-
-
 def test_nominal_rotor_of_perfect_parts_is_balanced():
-    d = _design("millrace")
+    d = design("millrace")
     rb = balance_rotor(d, nominal_disc_bodies(d), None)
     assert len(rb.discs) == 2
     for disc in rb.discs:
@@ -180,7 +172,7 @@ def test_nominal_rotor_of_perfect_parts_is_balanced():
 
 
 def test_faces_alternate_and_facing_pockets_are_opposite_faces_up():
-    d = _design("millrace")
+    d = design("millrace")
     rb = balance_rotor(d, nominal_disc_bodies(d), None)
     one, two = rb.discs
     faces1 = [a.face for a in one.assignment]
@@ -191,7 +183,7 @@ def test_faces_alternate_and_facing_pockets_are_opposite_faces_up():
 
 
 def test_weighed_magnets_are_placed_better_than_listed_and_all_used_once():
-    d = _design("millrace")
+    d = design("millrace")
     rng = np.random.default_rng(7)
     masses = [WeighedMagnet(f"M{i + 1}", 60 * (1 + rng.uniform(-0.015, 0.015))) for i in range(32)]
     rb = balance_rotor(d, nominal_disc_bodies(d), masses)
@@ -204,7 +196,7 @@ def test_weighed_magnets_are_placed_better_than_listed_and_all_used_once():
 
 
 def test_off_centre_disc_body_shows_as_unbalance_and_gets_a_correction():
-    d = _design("hilltop")
+    d = design("hilltop")
     (body,) = nominal_disc_bodies(d)
     heavy = DiscBody(body.disc, body.mass_kg, (2.0, 0.0), body.z_mm)  # 2 mm off centre
     rb = balance_rotor(d, (heavy,), None, grade="G2.5")

@@ -2,42 +2,17 @@
 
 from __future__ import annotations
 
-import dataclasses
-import functools
 import math
 import re
-from pathlib import Path
 
 import pytest
+from demos import DEMOS, design, variant
 
-from layout.design import Design, compute_design
+from layout.design import Design
 from layout.forces import STEEL_B_LIMIT_T, hoop_stress_mpa, magnet_pull_n
-from layout.spec import Spec, load_spec
+from layout.spec import Spec
 
-DESIGNS = Path(__file__).resolve().parents[1] / "designs"
-DEMOS = ("hilltop", "millrace", "pedalbox")
 MU0 = 4e-7 * math.pi  # vacuum permeability, H/m (CODATA, pre-2019 exact value)
-
-
-@functools.cache
-def demo_spec(name: str) -> Spec:
-    return load_spec(DESIGNS / f"{name}.toml")
-
-
-def variant(name: str, *changes: tuple[str, object]) -> Spec:
-    """The demo with ("section.key", value) changes applied to its frozen sections."""
-    spec = demo_spec(name)
-    for dotted, value in changes:
-        section, key = dotted.split(".")
-        spec = dataclasses.replace(
-            spec, **{section: dataclasses.replace(getattr(spec, section), **{key: value})}
-        )
-    return spec
-
-
-@functools.cache
-def design(name: str, *changes: tuple[str, object]) -> Design:
-    return compute_design(variant(name, *changes))
 
 
 def face_area_m2(spec: Spec) -> float:

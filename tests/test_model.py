@@ -3,46 +3,22 @@
 from __future__ import annotations
 
 import dataclasses
-import functools
 import json
 import math
 import tomllib
-from pathlib import Path
 
 import numpy as np
 import pytest
+from demos import DEMOS, DESIGNS, design, variant
 
 from fab.report import plan_json
 from layout import model
 from layout.circuit import Load
 from layout.design import Design, compute_design
-from layout.spec import DesignError, Spec, load_spec, parse_spec
+from layout.spec import DesignError, parse_spec
 
-DESIGNS = Path(__file__).resolve().parents[1] / "designs"
-DEMOS = ("hilltop", "millrace", "pedalbox")
 BATTERY_DEMOS = ("hilltop", "millrace")
 INCH_MM = 25.4
-
-
-@functools.cache
-def demo_spec(name: str) -> Spec:
-    return load_spec(DESIGNS / f"{name}.toml")
-
-
-def variant(name: str, *changes: tuple[str, object]) -> Spec:
-    """The demo with ("section.key", value) changes applied to its frozen sections."""
-    spec = demo_spec(name)
-    for dotted, value in changes:
-        section, key = dotted.split(".")
-        spec = dataclasses.replace(
-            spec, **{section: dataclasses.replace(getattr(spec, section), **{key: value})}
-        )
-    return spec
-
-
-@functools.cache
-def design(name: str, *changes: tuple[str, object]) -> Design:
-    return compute_design(variant(name, *changes))
 
 
 def hand_copper_mm2(wire) -> float:

@@ -3,18 +3,14 @@
 from __future__ import annotations
 
 import dataclasses
-import functools
 import re
-from pathlib import Path
 
 import pytest
+from demos import DEMOS, design
 
-from layout.design import Design, compute_design
+from layout.design import Design
 from layout.safety import collect_warnings
-from layout.spec import Spec, load_spec
 
-DESIGNS = Path(__file__).resolve().parents[1] / "designs"
-DEMOS = ("hilltop", "millrace", "pedalbox")
 SEVERITIES = {"danger", "warning", "info"}
 ALL_CODES = {
     "voltage.above_elv",
@@ -39,27 +35,6 @@ ACTION_VERBS = (
     "bring", "enclose", "never", "follow",
 )  # fmt: skip
 SPEC_KEY = re.compile(r"\b(stator|magnets|rotor|connection|target)\.[a-z_]+")
-
-
-@functools.cache
-def demo_spec(name: str) -> Spec:
-    return load_spec(DESIGNS / f"{name}.toml")
-
-
-def variant(name: str, *changes: tuple[str, object]) -> Spec:
-    """The demo with ("section.key", value) changes applied to its frozen sections."""
-    spec = demo_spec(name)
-    for dotted, value in changes:
-        section, key = dotted.split(".")
-        spec = dataclasses.replace(
-            spec, **{section: dataclasses.replace(getattr(spec, section), **{key: value})}
-        )
-    return spec
-
-
-@functools.cache
-def design(name: str, *changes: tuple[str, object]) -> Design:
-    return compute_design(variant(name, *changes))
 
 
 def codes(d: Design) -> dict[str, str]:
