@@ -9,11 +9,14 @@ maximum service speed Ω [rad/s].
 from __future__ import annotations
 
 import csv
+import dataclasses
 import io
 import math
 from dataclasses import dataclass
 
 import numpy as np
+
+from layout.rotor import balance_positions, part_angle_deg, pocket_marks
 
 # Balance grades of ISO 21940-11 (mm/s).
 GRADES = {"G0.4": 0.4, "G1": 1.0, "G2.5": 2.5, "G6.3": 6.3, "G16": 16.0, "G40": 40.0}
@@ -130,7 +133,7 @@ class Correction:
     add_g: float  # mass to add at radius_mm, angle_deg
     radius_mm: float
     angle_deg: float  # nearest balance position to the ideal angle
-    ideal_angle_deg: float
+    ideal_angle_deg: float  # opposite the unbalance; disc angles as marked on the part
     residual_after_gmm: float  # with the mass added at the nearest position
     remove_g: float  # or material to remove opposite (at ideal_angle_deg + 180)
 
@@ -205,7 +208,12 @@ def read_masses(text: str, source: str, expected: int) -> list[WeighedMagnet]:
 
 
 def monte_carlo_unbalance(
-    nominal_g: float, tolerance_pct: float, angles_rad: np.ndarray, radius_mm: float, seed: int = 1
+    nominal_g: float,
+    tolerance_pct: float,
+    angles_rad: np.ndarray,
+    radius_mm: float,
+    seed: int = 1,
+    base_gmm: complex = 0j,
 ) -> np.ndarray:
     """|U| (g·mm) of one disc with magnets of uniformly random mass within ±tolerance, placed
     as they come. A tolerance band read as a uniform spread is the pessimistic reading
@@ -214,7 +222,7 @@ def monte_carlo_unbalance(
     n = len(angles_rad)
     masses = nominal_g * (1 + rng.uniform(-1, 1, (MONTE_CARLO_TRIALS, n)) * tolerance_pct / 100)
     e = np.exp(1j * np.asarray(angles_rad)) * radius_mm
-    return np.abs(masses @ e)
+    return np.abs(base_gmm + masses @ e)
 
 
 @dataclass(frozen=True)
@@ -291,25 +299,23 @@ def nominal_disc_bodies(design) -> tuple[DiscBody, ...]:
     return tuple(out)
 
 
-def balance_positions(design) -> tuple[float, tuple[float, ...]]:
-    """Radius and angles (°) of the correction positions on each disc.
-
-    Halfway between two magnets, on a ring just inside the disc's rim: as far out as the rim
-    allows, for the most correction per gram, and clear of the pockets.
-    """
-    mg = design.spec.magnets
-    r_out = design.forces.disc_outer_radius_mm
-    rim = r_out - mg.pitch_radius_mm
-    radius = r_out - min(6.0, rim / 2)
-    angles = tuple(360.0 * (k + 0.5) / mg.count for k in range(mg.count))
-    return radius, angles
+def _correction_ring(design) -> tuple[float, tuple[float, ...]]:
+    """Radius and machine angles of the balance holes (or, without room for them, places
+    midway between the magnets at the pitch radius, for a glued mass)."""
+    bp = balance_positions(design.spec, design.forces.disc_outer_radius_mm)
+    if bp is not None:
+        return bp.radius_mm, bp.angles_deg
+    p = design.spec.magnets.count
+    return design.spec.magnets.pitch_radius_mm, tuple(360.0 * (k + 0.5) / p for k in range(p))
 
 
-def _face(disc: int, polarization_t: float) -> str:
-    # Disc 1 lies magnets up as it will run; disc 2 is placed magnet side up on the bench,
-    # so its stator-facing side shows: a +z magnet there shows its S face.
-    up_is_north = polarization_t > 0 if disc == 1 else polarization_t < 0
-    return "N" if up_is_north else "S"
+def _on_part(disc: int, c: Correction) -> Correction:
+    """Angles as marked on the part (disc 2 is made magnet side up, so mirrored)."""
+    return dataclasses.replace(
+        c,
+        angle_deg=part_angle_deg(disc, c.angle_deg),
+        ideal_angle_deg=part_angle_deg(disc, c.ideal_angle_deg),
+    )
 
 
 def balance_rotor(
@@ -328,6 +334,7 @@ def balance_rotor(
     per_disc = mg.count
     discs = [b.disc for b in bodies]
     mags = {d: [m for m in design.geometry.magnets if m.disc == d] for d in discs}
+    marks = {d: pocket_marks(design.geometry, d) for d in discs}
     ang = {d: np.radians([m.rotation_deg for m in mags[d]]) for d in discs}
     if masses is not None:
         listed = np.array([m.mass_g for m in masses])
@@ -347,21 +354,18 @@ def balance_rotor(
         share = plane_allowances(u_per, abs(bodies[0].z_mm - zc), abs(bodies[1].z_mm - zc))
     else:
         share = (u_per,)
-    bal_r, bal_angles = balance_positions(design)
+    bal_r, bal_angles = _correction_ring(design)
     out: list[DiscBalance] = []
     vectors = []
     p95 = 0.0
     for k, body in enumerate(bodies):
         d = body.disc
         base = complex(*body.com_offset_mm) * body.mass_kg * 1000  # g·mm
-        spread = monte_carlo_unbalance(nominal_g, mg.mass_tolerance_pct, ang[d], r)
-        p95 = max(p95, float(np.percentile(np.abs(base + spread), 95)))
+        spread = monte_carlo_unbalance(nominal_g, mg.mass_tolerance_pct, ang[d], r, base_gmm=base)
+        p95 = max(p95, float(np.percentile(spread, 95)))
         if masses is None:
             before = after = base + unbalance_vector(np.full(per_disc, nominal_g), ang[d], r)
-            assignment = tuple(
-                PocketAssignment(j + 1, "any", _face(d, m.polarization_t), nominal_g)
-                for j, m in enumerate(mags[d])
-            )
+            assignment = tuple(PocketAssignment(mk.pocket, "any", mk.face_up, nominal_g) for mk in marks[d])
             mass_kg = body.mass_kg + per_disc * nominal_g / 1000
         else:
             before = base + unbalance_vector(listed[listed_sets[d]], ang[d], r)
@@ -370,12 +374,12 @@ def balance_rotor(
             placed = pool[perm]
             after = base + unbalance_vector(listed[placed], ang[d], r)
             assignment = tuple(
-                PocketAssignment(j + 1, ids[placed[j]], _face(d, m.polarization_t), float(listed[placed[j]]))
-                for j, m in enumerate(mags[d])
+                PocketAssignment(mk.pocket, ids[placed[j]], mk.face_up, float(listed[placed[j]]))
+                for j, mk in enumerate(marks[d])
             )
             mass_kg = body.mass_kg + float(listed[placed].sum()) / 1000
         vectors.append(after)
-        corr = correction_for(after, share[k], bal_r, bal_angles)
+        corr = _on_part(d, correction_for(after, share[k], bal_r, bal_angles))
         out.append(
             DiscBalance(
                 disc=d,
