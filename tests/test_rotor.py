@@ -2,11 +2,10 @@
 
 from __future__ import annotations
 
-import dataclasses
 import math
 
 import pytest
-from test_spec import DESIGNS
+from demos import DESIGNS, variant
 
 from layout.design import compute_design
 from layout.geometry import resolve_geometry
@@ -24,13 +23,8 @@ from layout.spec import load_spec
 
 
 def spec_with(demo: str, **changes):
-    """A demo spec with `section.key` values replaced (dotted names as keyword keys)."""
-    spec = load_spec(DESIGNS / f"{demo}.toml")
-    for dotted, value in changes.items():
-        section, key = dotted.split("__")
-        table = dataclasses.replace(getattr(spec, section), **{key: value})
-        spec = dataclasses.replace(spec, **{section: table})
-    return spec
+    """A demo spec with section__key=value changes."""
+    return variant(demo, *((k.replace("__", "."), v) for k, v in changes.items()))
 
 
 def test_pocket_clearance_defaults_by_material():

@@ -1,0 +1,105 @@
+"""Checks before anything is written: every failure names the key to change, in one line."""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+import pytest
+from demos import DEMOS, design
+
+from fab import outlines as o
+from fab.fit import Shape, check_coils, check_parts, edge_gap_mm, gap_mm
+from layout.spec import DesignError
+
+
+@pytest.mark.parametrize("demo", DEMOS)
+def test_demos_fit(demo):
+    check_parts(design(demo))
+
+
+def test_gap_between_circles_and_polygons():
+    a, b = Shape(o.circle(0, 0, 5)), Shape(o.circle(13, 0, 3))
+    assert gap_mm(a, b) == pytest.approx(5)
+    square = Shape(o.polygon([(10, -1), (12, -1), (12, 1), (10, 1)]))
+    assert gap_mm(a, square) == pytest.approx(5)
+    assert gap_mm(square, Shape(o.polygon([(13, -1), (14, -1), (14, 1), (13, 1)]))) == pytest.approx(1)
+    # Overlapping, or one inside the other: negative.
+    assert gap_mm(a, Shape(o.circle(1, 0, 1))) < 0
+    assert gap_mm(Shape(o.polygon([(-1, -1), (1, -1), (1, 1), (-1, 1)])), a) < 0
+    crossing = Shape(o.polygon([(4, -1), (8, -1), (8, 1), (4, 1)]))
+    assert gap_mm(crossing, a) < 0
+    assert edge_gap_mm(Shape(o.circle(0, 0, 2)), a) == pytest.approx(3)
+    assert edge_gap_mm(crossing, a) < 0
+
+
+def one_line(d) -> str:
+    with pytest.raises(DesignError) as info:
+        check_parts(d)
+    message = str(info.value)
+    assert "\n" not in message and message.startswith(f"{d.spec.source}: ")
+    return message
+
+
+# (id, demo, changes, key named, words of the advice)
+FAILURES = [
+    ("magnets past the disc's edge", "millrace", (("rotor.disc_outer_diameter_mm", 252.0),),
+     "rotor.disc_outer_diameter_mm = 252.0", "make the disc at least 258 across"),
+    ("hub bolts into the bore", "millrace", (("rotor.hub_bolt_circle_mm", 40.0),),
+     "rotor.hub_bolt_circle_mm = 40.0", "use a bolt circle of at least 50"),
+    ("dowels among many bolts", "millrace", (("rotor.hub_bolt_circle_mm", 64.0), ("rotor.hub_bolts", 12)),
+     "rotor.dowel_diameter_mm = 6.0", "0.9 mm apart, less than rotor.min_web_mm = 3"),
+    ("jacking screws outside the stator's bore", "millrace", (("rotor.jacking_circle_mm", 150.0),),
+     "rotor.jacking_circle_mm = 150.0", "at most 114.8"),
+    ("lead slots into the lugs", "millrace", (("stator.mounting_lugs", 24),),
+     "stator.mounting_lugs = 24", "use fewer lugs"),
+    ("stator bore round the hub", "millrace", (("stator.resin_rim_mm", 40.0),),
+     "stator.resin_rim_mm = 40.0", "too small for the hub bolts"),
+    ("winder hole wider than the core", "millrace", (("fab.winder_hole_diameter_mm", 30.0),),
+     "fab.winder_hole_diameter_mm = 30.0", "want at least 2 mm"),
+    ("no room for balance holes", "millrace", (("rotor.min_web_mm", 14.0),),
+     "rotor.disc_outer_diameter_mm = 270.0", "no room for M5 balance holes"),
+    ("pockets too near the rim", "pedalbox", (("rotor.min_web_mm", 12.0),),
+     "rotor.disc_outer_diameter_mm = 190.0", "magnet place 1 and outer edge"),
+    ("jacking screws into the hub bolts", "pedalbox",
+     (("rotor.hub_bolts", 4), ("rotor.hub_bolt_circle_mm", 47.0), ("rotor.hub_hole_diameter_mm", 9.0),
+      ("rotor.jacking_screw", "M10")),
+     "rotor.jacking_circle_mm = 55.92", "jacking screw hole"),
+]  # fmt: skip
+
+
+@pytest.mark.parametrize(
+    ("demo", "changes", "named", "words"), [f[1:] for f in FAILURES], ids=[f[0] for f in FAILURES]
+)
+def test_failures_name_the_dimension(demo, changes, named, words):
+    message = one_line(design(demo, *changes))
+    assert message.startswith(f"{demo}.toml: {named}: "), message
+    assert words in message, message
+
+
+@pytest.mark.parametrize(("material", "clearance"), [("pla", 0.2), ("steel", 0.3)])
+def test_pockets_too_close_name_the_pitch_radius(material, clearance):
+    d = design("millrace", ("magnets.width_mm", 31.0), ("rotor.disc_material", material))
+    message = one_line(d)
+    # Neighbouring places come nearest at their inner corners, 2·(r_in·sin(π/P) − w·cos(π/P))
+    # apart, r_in and w the place's inner radius and half width.
+    r_in, w = 105 - 20 - clearance, 15.5 + clearance
+    gap = 2 * (r_in * math.sin(math.pi / 16) - w * math.cos(math.pi / 16))
+    assert f"are {gap:.1f} mm apart, less than rotor.min_web_mm = 3" in message, message
+    assert message.startswith("millrace.toml: magnets.pitch_radius_mm = 105.0: "), message
+    advice = float(message.rsplit("at least ", 1)[1].split(",")[0])
+    # At the advised radius the two places keep the web.
+    half = 20 + clearance
+    assert 2 * ((advice - half) * math.sin(math.pi / 16) - w * math.cos(math.pi / 16)) >= 3 - 1e-9
+    assert 2 * ((advice - 0.1 - half) * math.sin(math.pi / 16) - w * math.cos(math.pi / 16)) < 3
+
+
+def test_coils_that_touch_are_caught():
+    d = design("millrace")
+    coil = d.geometry.coil
+    wide = dataclasses.replace(coil, outline_mm=np.array(o.offset_convex(coil.outline_mm, 1.0)))
+    touching = dataclasses.replace(d, geometry=dataclasses.replace(d.geometry, coil=wide))
+    with pytest.raises(DesignError, match="stator.coil_clearance_mm = 1.5: neighbouring coils overlap"):
+        check_coils(touching)
+    check_coils(d)
