@@ -205,3 +205,23 @@ def test_off_centre_disc_body_shows_as_unbalance_and_gets_a_correction():
     assert disc.correction.needed
     # Correction goes opposite the heavy side (the +x axis): near 180°.
     assert abs(disc.correction.ideal_angle_deg - 180.0) < 1e-9
+
+
+def test_disc_bodies_from_the_solids():
+    # OCCT volume of the disc as made (pockets and holes cut) times the material density:
+    # a little lighter than the plain annulus of the model, and nearly centred.
+    from fab.massprops import disc_bodies
+
+    d = design("pedalbox")
+    bodies = disc_bodies(d)
+    assert [b.disc for b in bodies] == [1, 2]
+    for b in bodies:
+        assert 0.85 * d.forces.disc_mass_kg < b.mass_kg < d.forces.disc_mass_kg
+        assert abs(complex(*b.com_offset_mm)) < 0.5
+    rb = balance_rotor(d, bodies, None)
+    # Index marks and dowel holes leave each disc slightly heavy on one side; the report
+    # carries that as the unbalance before and after placing identical magnets.
+    for disc, body in zip(rb.discs, bodies, strict=True):
+        assert disc.unbalance_after_gmm == pytest.approx(
+            abs(complex(*body.com_offset_mm)) * body.mass_kg * 1000
+        )

@@ -1,0 +1,29 @@
+"""Mass properties of the rotor discs as built, from their solids (OCCT)."""
+
+from __future__ import annotations
+
+from layout.balance import DiscBody
+from layout.design import Design
+from layout.materials import DISC_MATERIALS
+
+
+def disc_bodies(design: Design) -> tuple[DiscBody, ...]:
+    """Every rotor disc's mass and centre of mass from its solid, pockets and holes cut.
+
+    OCCT integrates the solid (BRepGProp volume properties); the mass is that volume times
+    the disc material's density (common handbook values, layout.materials). Disc 2 is
+    made magnet side up, mirrored against the machine's angles, so its centre of mass is
+    mirrored back (y → −y) into machine coordinates.
+    """
+    from fab.solids import rotor_disc
+
+    density = DISC_MATERIALS[design.spec.rotor.disc_material].density_g_cm3
+    zs = {m.disc: m.center_mm[2] for m in design.geometry.magnets}
+    out = []
+    for disc in sorted(zs):
+        solid = rotor_disc(design, disc)
+        volume_mm3 = solid.Volume()
+        centre = solid.Center()  # centre of mass of a solid in cadquery
+        y = centre.y if disc == 1 else -centre.y
+        out.append(DiscBody(disc, volume_mm3 * density * 1e-6, (centre.x, y), zs[disc]))
+    return tuple(out)
