@@ -1,0 +1,276 @@
+"""Solids of every part, extruded from the outlines in fab/outlines.py (mm).
+
+One builder per part from the design: `rotor_disc`, `magnet_template`, `stator_casting`,
+`coil_solid`, `magnet_solid`, `stator_mould`, `winding_jig`, `stator_plate`, and
+`assembly` with everything in place. Features are extrusions and cuts of the shared
+outlines: one prism for a flat part with all its through holes, then one cut for all its
+pockets and engravings together. cadquery is imported inside the functions only.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from fab.outlines import (
+    ENGRAVE_DEPTH_MM,
+    Flat,
+    Path,
+    arc_midpoint,
+    jig_cheek_flat,
+    jig_core_flat,
+    lead_slots,
+    magnet_template_flat,
+    mould_flats,
+    polygon,
+    rotor_disc_flat,
+    stator_flat,
+    stator_plate_flat,
+)
+from layout.design import Design
+from layout.materials import DISC_MATERIALS
+from layout.rotor import disc_count, disc_place
+
+OVERCUT_MM = 0.5  # cutting tools stand this far past a face, so no face is shared with the part
+ROTOR_PARTS = ("rotor_disc", "magnet")  # the assembly's turning parts begin with these names
+
+
+def _cq():
+    import cadquery as cq
+
+    return cq
+
+
+def wire(path: Path, z: float = 0.0):
+    """A closed planar wire at height z from a Path."""
+    cq = _cq()
+    circ = path.as_circle()
+    if circ is not None:
+        (cx, cy), r = circ
+        return cq.Wire.makeCircle(r, cq.Vector(cx, cy, z), cq.Vector(0, 0, 1))
+    n = len(path.xy)
+    edges = []
+    for i in range(n):
+        p0, p1, b = path.xy[i], path.xy[(i + 1) % n], path.bulge[i]
+        v0, v1 = cq.Vector(p0[0], p0[1], z), cq.Vector(p1[0], p1[1], z)
+        if b == 0:
+            edges.append(cq.Edge.makeLine(v0, v1))
+        else:
+            m = arc_midpoint(p0, p1, b)
+            edges.append(cq.Edge.makeThreePointArc(v0, cq.Vector(m[0], m[1], z), v1))
+    return cq.Wire.assembleEdges(edges)
+
+
+def prism(outline: Path, height: float, z0: float = 0.0, holes: tuple[Path, ...] = ()):
+    """The outline (less its holes) extruded from z0 up by height."""
+    cq = _cq()
+    face = cq.Face.makeFromWires(wire(outline, z0), [wire(h, z0) for h in holes])
+    return cq.Solid.extrudeLinear(face, cq.Vector(0, 0, height))
+
+
+def flat_solid(flat: Flat, engrave: bool = True):
+    """A flat part lying on z = 0: outline and holes extruded, then pockets and engravings cut.
+
+    Engravings are grooves ENGRAVE_DEPTH_MM deep when `engrave`; a cut metal or wooden part
+    is marked from its drawing instead (laser etching, scribing), so its solid leaves them out.
+    """
+    t = flat.thickness_mm
+    body = prism(flat.outline.path, t, 0.0, tuple(f.path for f in flat.holes))
+    tools = [prism(f.path, f.depth_mm + OVERCUT_MM, t - f.depth_mm) for f in flat.pockets]
+    if engrave:
+        tools += [prism(f.path, ENGRAVE_DEPTH_MM + OVERCUT_MM, t - ENGRAVE_DEPTH_MM) for f in flat.engraved]
+    if tools:
+        body = body.cut(*tools)
+    return body
+
+
+def rotor_disc(design: Design, disc: int):
+    """Rotor disc `disc` as made: lying on its back, magnet side up; printed ones engraved."""
+    printed = DISC_MATERIALS[design.spec.rotor.disc_material].printed
+    return flat_solid(rotor_disc_flat(design, disc), engrave=printed)
+
+
+def magnet_template(design: Design, disc: int):
+    return flat_solid(magnet_template_flat(design, disc))
+
+
+def stator_plate(design: Design):
+    return flat_solid(stator_plate_flat(design))
+
+
+def coil_solid(design: Design, index: int):
+    """Coil at position `index` as wound, in machine coordinates."""
+    geo = design.geometry
+    outline, hole = geo.coil_polygons(index)
+    c = geo.coil
+    return prism(polygon(outline), c.z_max_mm - c.z_min_mm, c.z_min_mm, (polygon(hole),))
+
+
+def stator_casting(design: Design):
+    """The cast resin round the coils, machine coordinates: the stator less its coils."""
+    flat = stator_flat(design)
+    z0, z1 = design.geometry.stator_z_mm
+    body = prism(flat.outline.path, z1 - z0, z0, tuple(f.path for f in flat.holes))
+    return body.cut(*[coil_solid(design, i) for i in design.geometry.coil_indices])
+
+
+def magnet_solid(design: Design):
+    """One magnet centred on the origin, its length along x: every magnet is this one moved."""
+    cq = _cq()
+    m = design.geometry.magnets[0]
+    if m.shape == "block":
+        a, b, h = m.dimension_mm
+        return cq.Solid.makeBox(a, b, h, cq.Vector(-a / 2, -b / 2, -h / 2))
+    d, h = m.dimension_mm
+    return cq.Solid.makeCylinder(d / 2, h, cq.Vector(0, 0, -h / 2))
+
+
+def magnet_locations(design: Design, disc: int) -> list:
+    """Where each magnet of one disc runs (machine coordinates, rotor angle 0)."""
+    cq = _cq()
+    return [
+        cq.Location(cq.Vector(*m.center_mm), cq.Vector(0, 0, 1), m.rotation_deg)
+        for m in design.geometry.magnets
+        if m.disc == disc
+    ]
+
+
+def stator_mould(design: Design):
+    """The printed casting mould: floor, wall, island, coil places and pins in one piece.
+
+    The same cavity as the boards of fab.outlines.mould_flats: the base board's thickness is
+    the floor, the frame, island and cores stand as high as the stator.
+    """
+    base, frame, _island, _core = mould_flats(design)
+    floor, s = base.thickness_mm, frame.thickness_mm
+    cavity = stator_flat(design)
+    body = prism(base.outline.path, floor + s)
+    tools = [prism(cavity.outline.path, s + OVERCUT_MM, floor, tuple(f.path for f in cavity.holes))]
+    # Lead slots from the top down to the stator's mid-plane, where the leads are laid.
+    tools += [prism(f.path, s / 2 + OVERCUT_MM, floor + s / 2) for f in lead_slots(design)]
+    return body.cut(*tools)
+
+
+def winding_jig(design: Design) -> dict:
+    """The jig's pieces as made ("core", "cheek": make two) and, stacked as used, "stack"."""
+    cq = _cq()
+    core = flat_solid(jig_core_flat(design))
+    cheek = flat_solid(jig_cheek_flat(design))
+    tc, h = jig_cheek_flat(design).thickness_mm, jig_core_flat(design).thickness_mm
+    stack = cq.Compound.makeCompound(
+        [cheek, core.translate(cq.Vector(0, 0, tc)), cheek.translate(cq.Vector(0, 0, tc + h))]
+    )
+    return {"core": core, "cheek": cheek, "stack": stack}
+
+
+@dataclass(frozen=True)
+class Placed:
+    """A part of the assembly: its solid as made and where it goes."""
+
+    name: str
+    solid: object  # cadquery Shape
+    location: object  # cadquery Location
+    colour: tuple[float, float, float]
+
+    @property
+    def turns(self) -> bool:
+        return self.name.startswith(ROTOR_PARTS)
+
+    @property
+    def shape(self):
+        """The solid where it runs (shares its geometry with `solid`)."""
+        return self.solid.moved(self.location)
+
+
+STEEL = (0.55, 0.57, 0.6)
+NORTH, SOUTH = (0.8, 0.2, 0.2), (0.2, 0.3, 0.8)
+RESIN, COPPER = (0.85, 0.8, 0.55), (0.72, 0.45, 0.2)
+PRINTED = (0.3, 0.6, 0.4)
+
+
+def assembly(design: Design, discs: dict | None = None) -> list[Placed]:
+    """Discs, magnets, stator, coils (and the steel stator plate) where they run.
+
+    `discs` may hold rotor disc solids already built ({disc: solid as made}). Magnets and
+    coils are one solid each, placed many times.
+    """
+    cq = _cq()
+    spec, geo = design.spec, design.geometry
+    out = []
+    disc_colour = STEEL if spec.rotor.disc_material == "steel" else PRINTED
+    magnet = magnet_solid(design)
+    origin, z_axis = cq.Vector(0, 0, 0), cq.Vector(0, 0, 1)
+    for disc in range(1, disc_count(spec) + 1):
+        place = disc_place(spec, geo, disc)
+        solid = (discs or {}).get(disc) or rotor_disc(design, disc)
+        if disc == 2:  # turned over about x: magnet side down
+            loc = cq.Location(cq.Vector(0, 0, place.back_z_mm), cq.Vector(1, 0, 0), 180.0)
+        else:
+            loc = cq.Location(cq.Vector(0, 0, place.back_z_mm))
+        out.append(Placed(f"rotor_disc_{disc}", solid, loc, disc_colour))
+        mags = [m for m in geo.magnets if m.disc == disc]
+        for j, (m, loc) in enumerate(zip(mags, magnet_locations(design, disc), strict=True), start=1):
+            out.append(Placed(f"magnet_{disc}_{j}", magnet, loc, NORTH if m.polarization_t > 0 else SOUTH))
+    out.append(Placed("stator", stator_casting(design), cq.Location(), RESIN))
+    first = geo.coil_indices[0]
+    coil = coil_solid(design, first)
+    for idx in geo.coil_indices:
+        turn = 360.0 * (idx - first) / geo.positions
+        out.append(Placed(f"coil_{idx}", coil, cq.Location(origin, z_axis, turn), COPPER))
+    if spec.rotor.topology == "one_disc_steel_stator":
+        loc = cq.Location(cq.Vector(0, 0, geo.stator_z_mm[1]))
+        out.append(Placed("stator_plate", stator_plate(design), loc, STEEL))
+    return out
+
+
+def write_assembly_step(parts: list[Placed], path: str, name: str) -> None:
+    """One STEP file with every part named and coloured; repeated parts are instances."""
+    cq = _cq()
+    assy = cq.Assembly(name=name)
+    for p in parts:
+        assy.add(p.solid, name=p.name, loc=p.location, color=cq.Color(*p.colour))
+    assy.export(path, "STEP")
+
+
+@dataclass(frozen=True)
+class AssemblyCheck:
+    collisions: tuple[tuple[str, str, float], ...]  # (part, part, common volume mm³)
+    running_clearance_mm: float  # least distance between turning and standing parts
+    pairs_checked: int
+
+
+COLLISION_MM3 = 1e-3  # touching faces give a common volume of rounding size only
+
+
+def check_assembly(parts: list[Placed]) -> AssemblyCheck:
+    """Common volume of every two parts whose boxes overlap, and the running clearance."""
+    from OCP.BRepAlgoAPI import BRepAlgoAPI_Common
+    from OCP.BRepExtrema import BRepExtrema_DistShapeShape
+    from OCP.BRepGProp import BRepGProp
+    from OCP.GProp import GProp_GProps
+
+    cq = _cq()
+    boxes = [p.shape.BoundingBox() for p in parts]
+    lo = np.array([[b.xmin, b.ymin, b.zmin] for b in boxes])
+    hi = np.array([[b.xmax, b.ymax, b.zmax] for b in boxes])
+    shrink = 1e-4
+    collisions = []
+    checked = 0
+    for i in range(len(parts)):
+        overlap = np.all((lo[i] + shrink < hi) & (lo + shrink < hi[i]), axis=1)
+        for j in np.nonzero(overlap)[0]:
+            if j <= i:
+                continue
+            checked += 1
+            common = BRepAlgoAPI_Common(parts[i].shape.wrapped, parts[int(j)].shape.wrapped).Shape()
+            props = GProp_GProps()
+            BRepGProp.VolumeProperties_s(common, props)
+            if props.Mass() > COLLISION_MM3:
+                collisions.append((parts[i].name, parts[int(j)].name, float(props.Mass())))
+    turning = cq.Compound.makeCompound([p.shape for p in parts if p.turns])
+    standing = cq.Compound.makeCompound([p.shape for p in parts if not p.turns])
+    dist = BRepExtrema_DistShapeShape(turning.wrapped, standing.wrapped)
+    clearance = float(dist.Value()) if dist.IsDone() else math.nan
+    return AssemblyCheck(tuple(collisions), clearance, checked)
