@@ -1937,17 +1937,25 @@ def _test_plan(ctx: _Ctx) -> list:
         ll, words = 2 * pr.phase_resistance_ohm / 3, "L1-L2, L2-L3, L3-L1 (one phase across the other two)"
     else:
         ll, words = None, ""
+    if spec.connection.kind == "delta":
+        pairs = ("L1-L2", "L2-L3", "L3-L1")
+    elif lay.phases == 3:
+        pairs = ("U1-V1", "V1-W1", "W1-U1")
+    else:
+        pairs = ("U1-U2",)
+
+    def blanks(unit: str) -> str:
+        """One line to write on for each pair of terminals."""
+        return "\n".join(f"{pair} ______ {unit}" for pair in pairs)
+
     if ll is not None:
         lo, hi = _band(ll, RESISTANCE_BAND_PCT)
         add(
             "joined",
             f"line to line, {words}",
             f"{_fmt_ohm(ll)} ({lo:.3f} to {hi:.3f} {ohm}) each",
-            f"______ {ohm}",
+            blanks(ohm),
         )
-    pairs = "U1-V1, V1-W1 and W1-U1" if lay.phases == 3 else "U1-U2"
-    if spec.connection.kind == "delta":
-        pairs = "L1-L2, L2-L3 and L3-L1"
     joined = {"star": "star point made, ", "delta": "delta closed, "}.get(spec.connection.kind, "")
     per_rpm = pr.open_circuit_line_rms_v / ta.rated_rpm
     for rpm in _bench_speeds(d):
@@ -1956,10 +1964,10 @@ def _test_plan(ctx: _Ctx) -> list:
         hz = lay.pole_pairs * rpm / 60
         add(
             f"open circuit at {rpm:g} rpm",
-            f"AC volts across {pairs}, {joined}nothing else connected; the speed reads as {hz:.1f} Hz "
-            "on the meter's frequency range",
+            f"AC volts across the terminals, {joined}nothing else connected; the speed reads as "
+            f"{hz:.1f} Hz on the meter's frequency range",
             f"{v:.1f} V rms ({lo:.1f} to {hi:.1f} V)",
-            "______ V",
+            blanks("V"),
         )
     if lay.phases == 3:
         add(
@@ -1995,7 +2003,7 @@ def _test_plan(ctx: _Ctx) -> list:
         "first spins by hand, then slowly under power: rub, wobble, noise",
         f"the running clearance ({spec.rotor.running_clearance_mm:g} mm) all the way round; no rubbing",
     )
-    widths = [30 * MM, 62 * MM, 50 * MM, 22 * MM]
+    widths = [29 * MM, 52 * MM, 51 * MM, 38 * MM]
     widths.append(ctx.frame_w - sum(widths))
     out.append(_table(ctx, rows, widths))
     out.append(
