@@ -19,13 +19,9 @@ $(STAMP): pyproject.toml
 DEMO_OUT := out/$(notdir $(DEMO:.toml=))
 
 demo: venv
-	mkdir -p $(DEMO_OUT)
-	$(BIN)/statorsmith plan $(DEMO) --json > $(DEMO_OUT)/plan.json.tmp
-	$(BIN)/statorsmith plan $(DEMO) > $(DEMO_OUT)/plan.txt.tmp
-	mv $(DEMO_OUT)/plan.json.tmp $(DEMO_OUT)/plan.json
-	mv $(DEMO_OUT)/plan.txt.tmp $(DEMO_OUT)/plan.txt
+	$(BIN)/statorsmith build $(DEMO)
 	cat $(DEMO_OUT)/plan.txt
-	@echo "written: $(DEMO_OUT)/plan.txt, $(DEMO_OUT)/plan.json"
+	@echo "the build package is in $(DEMO_OUT)/: manifest.json lists every file; read SAFETY.txt first"
 
 test: venv
 	$(BIN)/python -m pytest
@@ -36,6 +32,7 @@ lint: venv
 
 bench: venv
 	$(BIN)/python bench/plan_speed.py
+	$(BIN)/python bench/build_speed.py
 
 clean:
 	rm -rf $(VENV) out/*/

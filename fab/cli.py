@@ -10,6 +10,7 @@ import sys
 
 import click
 
+from fab import OutputError
 from layout.spec import DesignError, load_spec
 
 EXIT_USER_ERROR = 2
@@ -98,6 +99,29 @@ def plan(design, as_json):
         click.echo(plan_text(d))
 
 
+@cli.command()
+@click.argument("design", metavar="DESIGN.toml")
+@click.option(
+    "--out",
+    "out",
+    type=click.Path(file_okay=False),
+    default=None,
+    help="the package folder [default: out/NAME]",
+)
+def build(design, out):
+    """The whole build package: drawings, solids, assembly, plan, manifest."""
+    from fab.package import build_package
+
+    progress = None
+    if sys.stderr.isatty():
+
+        def progress(step: str) -> None:
+            click.echo(f"  {step}", err=True)
+
+    result = build_package(design, out, progress=progress)
+    click.echo(f"written: {result.target} ({len(result.files)} files, {result.seconds:.1f} s)")
+
+
 def main(argv: list[str] | None = None) -> None:
     """Console entry point with our error contract."""
     args = sys.argv[1:] if argv is None else argv
@@ -106,9 +130,12 @@ def main(argv: list[str] | None = None) -> None:
         sys.exit(0)
     try:
         cli.main(args=args, prog_name="statorsmith", standalone_mode=False)
-    except DesignError as exc:
+    except (DesignError, OutputError) as exc:
         click.echo(f"Error: {exc}", err=True)
         sys.exit(EXIT_USER_ERROR)
+    except KeyboardInterrupt:
+        click.echo("Interrupted; nothing was changed.", err=True)
+        sys.exit(130)
     except click.UsageError as exc:
         click.echo(f"Error: {exc.format_message()}", err=True)
         sys.exit(EXIT_USER_ERROR)

@@ -27,6 +27,7 @@ from fab.outlines import (
     polygon,
     rotor_disc_flat,
     stator_flat,
+    stator_layout,
     stator_plate_flat,
 )
 from layout.design import Design
@@ -237,15 +238,39 @@ def write_assembly_step(parts: list[Placed], path: str, name: str) -> None:
 @dataclass(frozen=True)
 class AssemblyCheck:
     collisions: tuple[tuple[str, str, float], ...]  # (part, part, common volume mm³)
-    running_clearance_mm: float  # least distance between turning and standing parts
+    running_clearance_mm: float  # least distance the turning parts pass the standing ones
+    placed_gap_mm: float  # least distance between them as placed, rotor angle 0
     pairs_checked: int
 
 
 COLLISION_MM3 = 1e-3  # touching faces give a common volume of rounding size only
 
 
-def check_assembly(parts: list[Placed]) -> AssemblyCheck:
-    """Common volume of every two parts whose boxes overlap, and the running clearance."""
+def standing_envelope(design: Design) -> list:
+    """What the turning parts pass over in a turn: each standing part swept about the shaft.
+
+    The cast stator (with its coils) sweeps the ring from its bore to its lugs' tips, the steel
+    plate likewise. The least distance from the turning parts, as placed, to these rings is the
+    running clearance at every rotor angle.
+    """
+    cq = _cq()
+    sl = stator_layout(design)
+    tip = sl.lug_radius_mm + sl.lug_half_width_mm
+    z0, z1 = design.geometry.stator_z_mm
+    rings = [(sl.inner_radius_mm, z0, z1)]
+    if design.spec.rotor.topology == "one_disc_steel_stator":
+        rings.append((sl.plate_inner_radius_mm, z1, z1 + design.spec.rotor.stator_plate_thickness_mm))
+    out = []
+    for r_in, lo, hi in rings:
+        ring = cq.Solid.makeCylinder(tip, hi - lo, cq.Vector(0, 0, lo))
+        out.append(ring.cut(cq.Solid.makeCylinder(r_in, hi - lo, cq.Vector(0, 0, lo))))
+    return out
+
+
+def check_assembly(parts: list[Placed], envelope: list | None = None) -> AssemblyCheck:
+    """Common volume of every two parts whose boxes overlap, and the running clearance: the
+    least distance from the turning parts to `envelope` (standing_envelope), or to the
+    standing parts as placed if none is given."""
     from OCP.BRepAlgoAPI import BRepAlgoAPI_Common
     from OCP.BRepExtrema import BRepExtrema_DistShapeShape
     from OCP.BRepGProp import BRepGProp
@@ -269,8 +294,13 @@ def check_assembly(parts: list[Placed]) -> AssemblyCheck:
             BRepGProp.VolumeProperties_s(common, props)
             if props.Mass() > COLLISION_MM3:
                 collisions.append((parts[i].name, parts[int(j)].name, float(props.Mass())))
+
+    def least(a, b) -> float:
+        dist = BRepExtrema_DistShapeShape(a.wrapped, b.wrapped)
+        return float(dist.Value()) if dist.IsDone() else math.nan
+
     turning = cq.Compound.makeCompound([p.shape for p in parts if p.turns])
     standing = cq.Compound.makeCompound([p.shape for p in parts if not p.turns])
-    dist = BRepExtrema_DistShapeShape(turning.wrapped, standing.wrapped)
-    clearance = float(dist.Value()) if dist.IsDone() else math.nan
-    return AssemblyCheck(tuple(collisions), clearance, checked)
+    placed = least(turning, standing)
+    running = least(turning, cq.Compound.makeCompound(envelope)) if envelope else placed
+    return AssemblyCheck(tuple(collisions), running, placed, checked)

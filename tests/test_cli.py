@@ -92,7 +92,7 @@ def test_entry_point_is_main():
 
 
 def test_help_and_version(ok):
-    assert {"pairs", "plan"} <= set(ok("--help").split())
+    assert {"pairs", "plan", "build"} <= set(ok("--help").split())
     assert "statorsmith" in ok("--version")
 
 
