@@ -23,13 +23,14 @@ strips, each grown). Pockets, engravings and reference lines are never offset.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
 from layout.design import Design
 from layout.materials import METRIC_THREADS
 from layout.rotor import (
+    BALANCE_SCREW,
     balance_positions,
     disc_count,
     is_steel_disc,
@@ -221,7 +222,6 @@ class Flat:
     reference: tuple[Feature, ...] = ()
     web_mm: float = 0.0  # least material between cut features, and their edge gap
     web_key: str = "rotor.min_web_mm"
-    extra_outlines: tuple[Feature, ...] = field(default=())  # further pieces cut from the same sheet
 
     def count(self, kind: str) -> int:
         feats = self.holes + self.pockets + self.engraved + self.reference
@@ -406,8 +406,8 @@ def disc_layout(design: Design) -> DiscLayout:
         jacking=jacking(design),
         balance_radius_mm=bp.radius_mm if bp else None,
         balance_angles_deg=bp.angles_deg if bp else (),
-        balance_hole_mm=METRIC_THREADS["M5"].tap_drill_mm,
-        balance_screw=bp.screw if bp else "M5",
+        balance_hole_mm=METRIC_THREADS[BALANCE_SCREW].tap_drill_mm,
+        balance_screw=BALANCE_SCREW,
     )
 
 

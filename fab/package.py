@@ -28,7 +28,7 @@ import tempfile
 import threading
 import time
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
@@ -56,7 +56,6 @@ class Item:
     write: Callable[[Builder, Path], dict]
     quantity: int = 1
     worker: bool = False  # written by the second process
-    info: dict = field(default_factory=dict)  # filled in when written
 
 
 class Builder:
