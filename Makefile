@@ -5,7 +5,7 @@ BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 DEMO ?= designs/millrace.toml
 
-.PHONY: venv demo test lint bench clean
+.PHONY: venv demo test lint bench sheet-png clean
 
 venv: $(STAMP)
 
@@ -29,6 +29,9 @@ test: venv
 lint: venv
 	$(BIN)/ruff check .
 	$(BIN)/ruff format --check .
+
+sheet-png: venv
+	$(BIN)/python bench/sheet_pages.py $(DEMO) $(DEMO_OUT)/sheet-pages
 
 bench: venv
 	$(BIN)/python bench/plan_speed.py

@@ -7,10 +7,12 @@ from __future__ import annotations
 
 import json
 import sys
+from pathlib import Path
 
 import click
 
 from fab import OutputError
+from layout.balance import MassListError
 from layout.spec import DesignError, load_spec
 
 EXIT_USER_ERROR = 2
@@ -122,6 +124,74 @@ def build(design, out):
     click.echo(f"written: {result.target} ({len(result.files)} files, {result.seconds:.1f} s)")
 
 
+@cli.command()
+@click.argument("design", metavar="DESIGN.toml")
+@click.option(
+    "--masses",
+    "masses_csv",
+    default=None,
+    metavar="MAGNETS.csv",
+    help="weighed magnets, CSV with header id,mass_g, one row per magnet",
+)
+@click.option(
+    "--grade",
+    type=click.Choice(["G0.4", "G1", "G2.5", "G6.3", "G16", "G40"]),
+    default="G6.3",
+    show_default=True,
+    help="ISO 21940-11 balance grade",
+)
+@click.option("--json", "as_json", is_flag=True, help="print a JSON object for scripts")
+def balance(design, masses_csv, grade, as_json):
+    """Rotor unbalance against ISO 21940-11; where each weighed magnet goes."""
+    from fab.massprops import disc_bodies
+    from fab.report import balance_json, balance_text
+    from layout.balance import balance_rotor, read_masses
+    from layout.design import compute_design
+
+    d = compute_design(load_spec(design))
+    masses = None
+    if masses_csv is not None:
+        path = Path(masses_csv)
+        try:
+            text = path.read_text(encoding="utf-8")
+        except (OSError, UnicodeDecodeError) as exc:
+            raise click.UsageError(
+                f"{path.name}: cannot be read ({getattr(exc, 'strerror', None) or exc})"
+            ) from None
+        n = d.spec.magnets.count * len({m.disc for m in d.geometry.magnets})
+        masses = read_masses(text, path.name, n)
+    rb = balance_rotor(d, disc_bodies(d), masses, grade)
+    if as_json:
+        click.echo(json.dumps(balance_json(rb), indent=2))
+    else:
+        click.echo(balance_text(rb, d.spec.name))
+
+
+@cli.command()
+@click.argument("design", metavar="DESIGN.toml")
+@click.option(
+    "--out",
+    "out",
+    type=click.Path(dir_okay=False),
+    default=None,
+    help="the PDF to write [default: out/NAME/NAME-sheet.pdf]",
+)
+@click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True)
+def sheet(design, out, paper):
+    """The PDF build sheet alone: summary, magnet maps, winding checklist, wiring, curves."""
+    from fab.massprops import disc_bodies
+    from fab.sheet import write_sheet
+    from layout.balance import balance_rotor
+    from layout.design import compute_design
+
+    d = compute_design(load_spec(design))
+    target = Path(out) if out else Path("out") / d.spec.name / f"{d.spec.name}-sheet.pdf"
+    target.parent.mkdir(parents=True, exist_ok=True)
+    rb = balance_rotor(d, disc_bodies(d), None)
+    written = write_sheet(d, target, paper=paper, balance=rb)
+    click.echo(f"written: {written}")
+
+
 def main(argv: list[str] | None = None) -> None:
     """Console entry point with our error contract."""
     args = sys.argv[1:] if argv is None else argv
@@ -130,7 +200,7 @@ def main(argv: list[str] | None = None) -> None:
         sys.exit(0)
     try:
         cli.main(args=args, prog_name="statorsmith", standalone_mode=False)
-    except (DesignError, OutputError) as exc:
+    except (DesignError, OutputError, MassListError) as exc:
         click.echo(f"Error: {exc}", err=True)
         sys.exit(EXIT_USER_ERROR)
     except KeyboardInterrupt:

@@ -327,3 +327,53 @@ def test_unbalancing_empty_positions_do_not_suggest_the_same_count(run, tmp_path
     message = assert_user_error(run("plan", path))
     # 11 coils cannot make three equal phases under any magnet count.
     assert "16 (winding factor" not in message
+
+
+def test_balance_json_and_bad_mass_lists(tmp_path):
+    import subprocess
+
+    exe = [sys.executable, "-m", "fab.cli"]
+    design_path = str(DESIGNS / "pedalbox.toml")
+    ok = subprocess.run([*exe, "balance", design_path, "--json"], capture_output=True, text=True)
+    assert ok.returncode == 0, ok.stderr
+    doc = json.loads(ok.stdout)
+    assert {"grade", "max_rpm", "discs"} <= set(doc)
+    for disc in doc["discs"]:
+        assert {
+            "disc",
+            "mass_kg",
+            "unbalance_before_gmm",
+            "unbalance_after_gmm",
+            "permissible_gmm",
+            "assignment",
+            "correction",
+        } <= set(disc)
+        assert len(disc["assignment"]) == 8
+    bad = tmp_path / "weighed.csv"
+    bad.write_text("id,mass_g\nA,42\nA,43\n", encoding="utf-8")
+    res = subprocess.run([*exe, "balance", design_path, "--masses", str(bad)], capture_output=True, text=True)
+    assert res.returncode == 2 and res.stdout == ""
+    assert len(res.stderr.strip().splitlines()) == 1 and "weighed.csv" in res.stderr
+
+
+def test_sheet_writes_a_pdf(tmp_path):
+    import subprocess
+
+    out = tmp_path / "sheet.pdf"
+    res = subprocess.run(
+        [
+            sys.executable,
+            "-m",
+            "fab.cli",
+            "sheet",
+            str(DESIGNS / "hilltop.toml"),
+            "--out",
+            str(out),
+            "--paper",
+            "letter",
+        ],
+        capture_output=True,
+        text=True,
+    )
+    assert res.returncode == 0, res.stderr
+    assert out.read_bytes().startswith(b"%PDF")
