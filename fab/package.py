@@ -85,7 +85,11 @@ class Builder:
 
 
 def _solid_info(shape) -> dict:
-    return {"volume_mm3": round(float(shape.Volume()), 3)}
+    c = shape.Center()  # centre of mass of the solid (OCCT volume properties)
+    return {
+        "volume_mm3": round(float(shape.Volume()), 3),
+        "center_of_mass_mm": [round(float(c.x), 6), round(float(c.y), 6), round(float(c.z), 6)],
+    }
 
 
 def write_step(shape, path: Path) -> dict:
@@ -614,7 +618,7 @@ def build_package(
         check_parts(design)
         target = Path(out) if out is not None else Path("out") / design.spec.name
         items = catalogue(design)
-        _check_target(target, {i.file for i in items})
+        _check_target(target, {i.file for i in items} | set(_late_names(design)))
         tmp = _make_tmp(target)
         # Text and drawings first: they need no CAD, so they run while the other process loads it.
         mine = [i for i in items if not (parallel and i.worker)]
@@ -631,6 +635,9 @@ def build_package(
             say("waiting for the part solids")
             infos.update(_worker_result(proc))
             proc = None
+        say("writing the balance plan and the build sheet")
+        late = _write_balance_and_sheet(design, items, infos, tmp)
+        items = items + late
         say("writing manifest.json")
         _write_manifest(design, items, infos, tmp, design_path)
         say(f"installing {target}")
@@ -642,6 +649,68 @@ def build_package(
         _discard(tmp, proc)
         raise
     return BuildResult(target, tuple(i.file for i in items) + (MANIFEST,), time.perf_counter() - t0)
+
+
+def _late_names(design: Design) -> tuple[str, str, str]:
+    return ("balance.txt", "balance.json", f"{design.spec.name}-sheet.pdf")
+
+
+def _disc_bodies_from(design: Design, infos: dict):
+    """The discs' mass properties from the solids just written (volume, centre of mass)."""
+    from layout.balance import DiscBody
+
+    density = DISC_MATERIALS[design.spec.rotor.disc_material].density_g_cm3
+    zs = {m.disc: m.center_mm[2] for m in design.geometry.magnets}
+    bodies = []
+    for disc in sorted(zs):
+        info = infos[f"rotor_disc_{disc}.step"]
+        x, y, _ = info["center_of_mass_mm"]
+        y = y if disc == 1 else -y  # disc 2 is made magnet side up: mirrored machine angles
+        bodies.append(DiscBody(disc, info["volume_mm3"] * density * 1e-6, (x, y), zs[disc]))
+    return tuple(bodies)
+
+
+def _write_balance_and_sheet(design: Design, items: list[Item], infos: dict, tmp: Path) -> list[Item]:
+    """Balance plan (nominal magnets; weighed ones via `statorsmith balance --masses`) and
+    the build sheet, which need the discs' solids and the list of files."""
+    from fab.report import balance_json, balance_text
+    from fab.sheet import write_sheet
+    from layout.balance import balance_rotor
+
+    rb = balance_rotor(design, _disc_bodies_from(design, infos), None)
+    txt, js, pdf = _late_names(design)
+    (tmp / txt).write_text(balance_text(rb, design.spec.name) + "\n", encoding="utf-8")
+    (tmp / js).write_text(json.dumps(balance_json(rb), indent=2) + "\n", encoding="utf-8")
+    files = [(i.file, i.what, i.how) for i in items]
+    files += [
+        (txt, "rotor balance: ISO 21940-11 check, placement, bench procedure", "read"),
+        (js, "the same as balance.txt, for scripts", "read"),
+        (pdf, "build sheet for the bench: print it in black and white", "print on paper"),
+    ]
+    write_sheet(design, tmp / pdf, balance=rb, files=files)
+
+    def done(_b, _p):
+        return {}
+
+    return [
+        Item(
+            txt,
+            "rotor balance: ISO 21940-11 check, nominal placement, bench procedure",
+            "-",
+            "read",
+            "weigh the magnets and run statorsmith balance --masses for a placement",
+            done,
+        ),
+        Item(js, "the same as balance.txt, for scripts", "-", "read", "", done),
+        Item(
+            pdf,
+            "build sheet: summary, magnet maps, winding checklist, wiring, curves, tests",
+            "paper",
+            "print",
+            "A4, black and white",
+            done,
+        ),
+    ]
 
 
 def _make_tmp(target: Path) -> Path:
