@@ -17,13 +17,22 @@ def disc_bodies(design: Design) -> tuple[DiscBody, ...]:
     """
     from fab.solids import rotor_disc
 
+    props = {}
+    for disc in sorted({m.disc for m in design.geometry.magnets}):
+        solid = rotor_disc(design, disc)
+        c = solid.Center()  # centre of mass of a solid in cadquery
+        props[disc] = (solid.Volume(), (c.x, c.y))
+    return bodies_from_props(design, props)
+
+
+def bodies_from_props(
+    design: Design, props: dict[int, tuple[float, tuple[float, float]]]
+) -> tuple[DiscBody, ...]:
+    """DiscBody per disc from (volume mm³, centre of mass (x, y) mm on the part as made)."""
     density = DISC_MATERIALS[design.spec.rotor.disc_material].density_g_cm3
     zs = {m.disc: m.center_mm[2] for m in design.geometry.magnets}
     out = []
     for disc in sorted(zs):
-        solid = rotor_disc(design, disc)
-        volume_mm3 = solid.Volume()
-        centre = solid.Center()  # centre of mass of a solid in cadquery
-        y = centre.y if disc == 1 else -centre.y
-        out.append(DiscBody(disc, volume_mm3 * density * 1e-6, (centre.x, y), zs[disc]))
+        volume_mm3, (x, y) = props[disc]
+        out.append(DiscBody(disc, volume_mm3 * density * 1e-6, (x, y if disc == 1 else -y), zs[disc]))
     return tuple(out)

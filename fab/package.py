@@ -657,17 +657,13 @@ def _late_names(design: Design) -> tuple[str, str, str]:
 
 def _disc_bodies_from(design: Design, infos: dict):
     """The discs' mass properties from the solids just written (volume, centre of mass)."""
-    from layout.balance import DiscBody
+    from fab.massprops import bodies_from_props
 
-    density = DISC_MATERIALS[design.spec.rotor.disc_material].density_g_cm3
-    zs = {m.disc: m.center_mm[2] for m in design.geometry.magnets}
-    bodies = []
-    for disc in sorted(zs):
+    props = {}
+    for disc in sorted({m.disc for m in design.geometry.magnets}):
         info = infos[f"rotor_disc_{disc}.step"]
-        x, y, _ = info["center_of_mass_mm"]
-        y = y if disc == 1 else -y  # disc 2 is made magnet side up: mirrored machine angles
-        bodies.append(DiscBody(disc, info["volume_mm3"] * density * 1e-6, (x, y), zs[disc]))
-    return tuple(bodies)
+        props[disc] = (info["volume_mm3"], tuple(info["center_of_mass_mm"][:2]))
+    return bodies_from_props(design, props)
 
 
 def _write_balance_and_sheet(design: Design, items: list[Item], infos: dict, tmp: Path) -> list[Item]:
