@@ -345,9 +345,8 @@ def balance_rotor(
             chosen = {discs[0]: a, discs[1]: b}
         else:
             chosen = {discs[0]: np.arange(per_disc)}
-    rotor_mass = sum(b.mass_kg for b in bodies) + len(discs) * per_disc * nominal_g / 1000
-    if masses is not None:
-        rotor_mass = sum(b.mass_kg for b in bodies) + float(np.sum([m.mass_g for m in masses])) / 1000
+    magnets_g = len(discs) * per_disc * nominal_g if masses is None else sum(m.mass_g for m in masses)
+    rotor_mass = sum(b.mass_kg for b in bodies) + magnets_g / 1000
     u_per = permissible_unbalance_gmm(g, rotor_mass, rpm)
     if len(bodies) == 2:
         zc = sum(b.z_mm * b.mass_kg for b in bodies) / sum(b.mass_kg for b in bodies)
