@@ -41,6 +41,8 @@ from layout.rotor import (
     pocket_marks,
 )
 from layout.spec import Spec
+from layout.winding import terminal_markings
+from layout.wire import bundle_diameter_mm
 
 ARC_STEP_DEG = 2.0  # arcs become chords this fine for checks (0.02 mm sag at r = 135 mm)
 MARK_HEIGHT_MM = 5.0  # polarity letters and disc numbers
@@ -299,9 +301,8 @@ def stator_layout(design: Design) -> StatorLayout:
     n = st.mounting_lugs
     lugs = tuple(360.0 * (k + 0.5) / n for k in range(n))
     wire = design.prediction.wire
-    bundle = wire.diameter_mm * 1.1 * math.sqrt(wire.strands)  # enamel adds about a tenth (from memory)
-    slot = max(LEAD_SLOT_MIN_MM, bundle + 1.5)
-    names = ("U1", "U2", "V1", "V2", "W1", "W2")[: 2 * st.phases]  # IEC 60034-8 terminal markings
+    slot = max(LEAD_SLOT_MIN_MM, bundle_diameter_mm(wire) + 1.5)
+    names = terminal_markings(st.phases)
     pitch = 2.5 * slot / r_out  # radians between slot centres on the rim
     slots = tuple(math.degrees((i - (len(names) - 1) / 2) * pitch) for i in range(len(names)))
     plate_in = None
@@ -841,7 +842,7 @@ def jig_layout(design: Design) -> JigLayout:
     hole = design.geometry.coil.hole_mm
     cx = float(polygon(hole).centroid()[0])
     wire = design.prediction.wire
-    slot = max(2.0, wire.diameter_mm * 1.1 * math.sqrt(wire.strands) + 0.5)
+    slot = max(2.0, bundle_diameter_mm(wire) + 0.5)
     radial = float(hole[:, 0].max() - hole[:, 0].min())
     return JigLayout(cx, slot, 0.3 * radial)
 

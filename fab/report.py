@@ -5,6 +5,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from layout.design import Design
+from layout.forces import STEEL_B_LIMIT_T, G
 from layout.pairs import Pair
 
 
@@ -198,7 +199,7 @@ def magnetics_json(design: Design) -> dict:
         "remanence_t": _r(design.geometry.remanence_t),
         "airgap_peak_bz_t": _r(f.airgap_peak_bz_t),
         "axial_force_n": _r(f.axial_force_n, 1),
-        "axial_force_kgf": _r(f.axial_force_n / 9.80665, 1),
+        "axial_force_kgf": _r(f.axial_force_n / G, 1),
         "jacking_screws": f.jacking_screws,
         "steel_peak_b_t": _r(f.steel_peak_b_t),
         "steel_needed_mm": _r(f.steel_needed_mm, 2),
@@ -376,12 +377,17 @@ def _magnetics_text(design: Design) -> str:
     f = design.forces
     rows = [
         ["peak Bz in the coils", f"{f.airgap_peak_bz_t:.3f} T"],
-        ["disc attraction", f"{f.axial_force_n:.0f} N ({f.axial_force_n / 9.80665:.0f} kgf)"],
+        ["disc attraction", f"{f.axial_force_n:.0f} N ({f.axial_force_n / G:.0f} kgf)"],
         ["jacking screws", "needed" if f.jacking_screws else "not needed"],
         ["one magnet onto steel", f"{f.magnet_pull_n:.0f} N"],
     ]
     if f.steel_peak_b_t is not None:
-        rows.append([f"steel {f.steel_plate} flux density", f"{f.steel_peak_b_t:.2f} T (keep under 1.5 T)"])
+        rows.append(
+            [
+                f"steel {f.steel_plate} flux density",
+                f"{f.steel_peak_b_t:.2f} T (keep under {STEEL_B_LIMIT_T:g} T)",
+            ]
+        )
     rows.append(
         [
             "disc hoop stress at max rpm",

@@ -23,21 +23,20 @@ from dataclasses import dataclass
 from pathlib import Path
 from xml.sax.saxutils import escape
 
+from layout.bill import RESIN_MARGIN_PCT, WIRE_MARGIN_PCT
+from layout.circuit import BRIDGE_CURRENT_FACTOR, line_resistance_ohm
 from layout.design import Design
-from layout.materials import (
-    COPPER_TEMP_COEFF_PER_K,
-    DISC_MATERIALS,
-    EPOXY_DENSITY_G_CM3,
-    STATOR_BINDERS_MAX_C,
-)
+from layout.materials import COPPER_TEMP_COEFF_PER_K, DISC_MATERIALS, STATOR_BINDERS_MAX_C
 from layout.rotor import (
     BALANCE_SCREW,
     balance_positions,
     disc_count,
     is_steel_disc,
-    part_angle_deg,
     pocket_marks,
+    pockets_either_side,
 )
+from layout.safety import INSULATION_MIN_MOHM, insulation_test_v
+from layout.winding import TERMINAL_LETTERS, electrical_hz, terminal_pair
 
 MM = 72 / 25.4  # points per millimetre
 PAPERS = {"a4": (210 * MM, 297 * MM), "letter": (8.5 * 72, 11 * 72)}
@@ -51,17 +50,8 @@ FOOTER = 9 * MM  # band below it for the page number
 RESISTANCE_BAND_PCT = 10
 OPEN_CIRCUIT_BAND_PCT = 10
 PHASE_MATCH_PCT = 3  # the three phases of a sound winding agree this closely (common practice)
-WIRE_MARGIN_PCT = 10  # leads, the first turns on the jig, a spoilt coil (common practice)
-RESIN_MARGIN_PCT = 15  # lugs, mixing cups, what stays in the mould's gaps (common practice)
-INSULATION_MIN_MOHM = 1.0  # windings to frame, low-voltage machines (common practice)
-# Diode bridge ratings: twice the highest open-circuit voltage, 1.5 times the highest
-# current (common practice).
-BRIDGE_VOLTAGE_FACTOR = 2.0
-BRIDGE_CURRENT_FACTOR = 1.5
 # Reduction scales of ISO 5455 (technical drawings).
 ISO_5455_SCALES = (1, 2, 5, 10, 20, 50, 100)
-# IEC 60034-8 terminal letters for phases A, B, C of the layout.
-TERMINAL = {"A": "U", "B": "V", "C": "W"}
 
 SANS, SANS_BOLD = "SheetSans", "SheetSans-Bold"
 _FONT_FILES = {SANS: "Vera.ttf", SANS_BOLD: "VeraBd.ttf"}
@@ -185,12 +175,10 @@ def _band(value: float, pct: float) -> tuple[float, float]:
 
 
 def _phase_label(phase: str, phases: int) -> str:
-    return f"{phase} ({TERMINAL[phase]})" if phases == 3 else "single"
+    return f"{phase} ({TERMINAL_LETTERS[phase]})" if phases == 3 else "single"
 
 
-def _terminals(phase: str) -> tuple[str, str]:
-    t = TERMINAL[phase]
-    return f"{t}1", f"{t}2"
+_terminals = terminal_pair
 
 
 def _wire_words(design: Design) -> str:
@@ -708,10 +696,7 @@ def _correction(balance, disc: int):
 
 def _between_pockets(design: Design, disc: int, part_angle: float) -> tuple[int, int]:
     """The two pockets either side of an angle as marked on the part (the balance plan's)."""
-    p = design.spec.magnets.count
-    machine = part_angle_deg(disc, part_angle)  # the mirror of disc 2 is its own inverse
-    k = int(math.floor(machine / (360.0 / p) + 1e-9)) % p
-    return tuple(sorted((k + 1, (k + 1) % p + 1)))
+    return pockets_either_side(design.spec.magnets.count, disc, part_angle)
 
 
 def _correction_words(design: Design, disc: int, corr) -> str:
@@ -1118,15 +1103,14 @@ def _connection_notes(d: Design) -> list[str]:
             "Single phase: U1 and U2 go to the "
             + ("load." if ta.kind == "ac_line" else "two AC inputs (~) of the bridge.")
         )
-    top = max(pr.curve, key=lambda op: op.dc_current_a)
     if ta.kind != "ac_line":
-        v_rating = BRIDGE_VOLTAGE_FACTOR * pr.open_circuit_dc_peak_at_max_v
-        i_rating = BRIDGE_CURRENT_FACTOR * top.dc_current_a
+        br = pr.bridge
         legs = "three-phase (six diodes)" if d.layout.phases == 3 else "single-phase (four diodes)"
         notes.append(
-            f"Rectifier: a {legs} bridge rated at least {v_rating:.0f} V and {i_rating:.0f} A "
-            f"(twice the {pr.open_circuit_dc_peak_at_max_v:.0f} V open-circuit peak at {ta.max_rpm:g} rpm, "
-            f"1.5 times the {top.dc_current_a:.1f} A at {top.rpm:g} rpm; common practice), on a heat sink."
+            f"Rectifier: a {legs} bridge rated at least {br.voltage_v:.0f} V and {br.current_a:.0f} A "
+            f"(twice the {br.open_circuit_peak_v:.0f} V open-circuit peak at {ta.max_rpm:g} rpm, "
+            f"{BRIDGE_CURRENT_FACTOR:g} times the {br.max_current_a:.1f} A at {br.max_current_rpm:g} rpm; "
+            "common practice), on a heat sink."
         )
     if ta.kind == "battery":
         notes.append(
@@ -1242,7 +1226,9 @@ def _star_or_single(c, d: Design, h: float) -> tuple[list[tuple[str, float]], fl
         c.line(x_t2, y, x_w, y)
         _draw_winding(c, x_w, y, sym_w)
         c.setFont(SANS, 7)
-        c.drawCentredString(x_w + sym_w / 2, y + 3 * MM + 2, f"phase {TERMINAL[ph]}" if star else "winding")
+        c.drawCentredString(
+            x_w + sym_w / 2, y + 3 * MM + 2, f"phase {TERMINAL_LETTERS[ph]}" if star else "winding"
+        )
         c.line(x_w + sym_w, y, x_in, y)
         _terminal(c, x_t2, y, t2, "above")
         _terminal(c, x_t1, y, t1, "above")
@@ -1292,7 +1278,7 @@ def _delta(c, d: Design, h: float) -> tuple[list[tuple[str, float]], float]:
             nx, ny = -nx, -ny
         t1, t2 = _terminals(ph)
         c.setFont(SANS, 7)
-        lx, ly, label = mx + 6 * MM * nx, my + 6 * MM * ny - 2, f"phase {TERMINAL[ph]}"
+        lx, ly, label = mx + 6 * MM * nx, my + 6 * MM * ny - 2, f"phase {TERMINAL_LETTERS[ph]}"
         if nx > 0.3:
             c.drawString(lx, ly, label)
         elif nx < -0.3:
@@ -1619,7 +1605,9 @@ def _curves(ctx: _Ctx) -> list:
     series = []
     for k, ph in enumerate(lay.phase_names):
         t1, t2 = _terminals(ph)
-        name = f"phase {TERMINAL[ph]} ({t1} to {t2})" if lay.phases == 3 else f"winding ({t1} to {t2})"
+        name = (
+            f"phase {TERMINAL_LETTERS[ph]} ({t1} to {t2})" if lay.phases == 3 else f"winding ({t1} to {t2})"
+        )
         ys = [float(v) for v in waves[k]] + [float(waves[k][0])]
         series.append(_Series(name, deg, ys, styles[k][0], styles[k][1], every=max(1, m // 12)))
     period_ms = 1000.0 / pr.electrical_hz_at_rated
@@ -1665,37 +1653,12 @@ def _grid(ctx: _Ctx, flowables: list, columns: int):
 # --------------------------------------------------------------------------- 6 balance and materials
 
 
-def _resin(design: Design) -> tuple[float, float | None]:
-    """About how much binder the stator takes (cm³, and g where its density is known).
-
-    The cast ring from the coils' inner edge less the resin rim to their outer edge plus
-    it, the stator's thickness, less the copper; the margin covers lugs and waste.
-    """
-    from layout.materials import COPPER_DENSITY_G_CM3
-
-    st = design.spec.stator
-    coil = design.geometry.coil
-    r_in = max(coil.r_min_mm - st.resin_rim_mm, 0.0)
-    r_out = coil.r_max_mm + st.resin_rim_mm
-    ring_cm3 = math.pi * (r_out**2 - r_in**2) * st.thickness_mm / 1000
-    copper_cm3 = design.prediction.copper_mass_kg * 1000 / COPPER_DENSITY_G_CM3
-    vol = (ring_cm3 - copper_cm3) * (1 + RESIN_MARGIN_PCT / 100)
-    if st.binder == "epoxy":
-        density = EPOXY_DENSITY_G_CM3
-    elif st.binder in DISC_MATERIALS:
-        density = DISC_MATERIALS[st.binder].density_g_cm3
-    else:
-        density = None
-    return vol, (vol * density if density else None)
-
-
 def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
     spec, pr, f = design.spec, design.prediction, design.forces
     lay, ro, st = design.layout, spec.rotor, spec.stator
-    k = 1 + WIRE_MARGIN_PCT / 100
     phases = lay.phases
-    length = pr.wire_length_per_phase_m * k
-    mass = pr.copper_mass_kg / phases * k
+    length = design.bill.wire_length_per_phase_m
+    mass = design.bill.wire_mass_per_phase_kg
     strands = f"; {pr.wire.strands} strands in hand, every strand counted" if pr.wire.strands > 1 else ""
     discs = disc_count(spec)
     n_mag = lay.magnets * discs
@@ -1713,7 +1676,7 @@ def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
             f"{n_mag * f.magnet_mass_g / 1000:.2f} kg in all; a spare covers a chipped one",
         ),
     ]
-    vol, grams = _resin(design)
+    vol, grams = design.bill.binder_volume_cm3, design.bill.binder_mass_g
     binder = {"epoxy": "casting epoxy", "polyester": "casting polyester"}.get(
         st.binder, f"{st.binder} (printed)"
     )
@@ -1776,13 +1739,12 @@ def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
         )
     )
     if spec.target.kind != "ac_line":
-        top = max(pr.curve, key=lambda op: op.dc_current_a)
+        br = pr.bridge
         rows.append(
             (
                 "diode bridge",
                 "1",
-                f"at least {BRIDGE_VOLTAGE_FACTOR * pr.open_circuit_dc_peak_at_max_v:.0f} V, "
-                f"{BRIDGE_CURRENT_FACTOR * top.dc_current_a:.0f} A; on a heat sink",
+                f"at least {br.voltage_v:.0f} V, {br.current_a:.0f} A; on a heat sink",
             )
         )
     return rows
@@ -1922,8 +1884,7 @@ def _test_plan(ctx: _Ctx) -> list:
         )
     if lay.phases == 3:
         add("phases match", "the three phase resistances", f"within {PHASE_MATCH_PCT} % of each other")
-    hv = pr.open_circuit_line_rms_at_max_v > 50 or pr.open_circuit_dc_peak_at_max_v > 120
-    test_v = 500 if hv else 250
+    test_v = insulation_test_v(pr)
     add(
         "insulation",
         "windings (all terminals joined) to the frame, discs and mounting studs"
@@ -1931,12 +1892,11 @@ def _test_plan(ctx: _Ctx) -> list:
         f"at least {INSULATION_MIN_MOHM:g} M{ohm} with an insulation tester at {test_v} V DC",
         f"______ M{ohm}",
     )
-    if spec.connection.kind == "star":
-        ll, words = 2 * pr.phase_resistance_ohm, "U1-V1, V1-W1, W1-U1 (two phases in series)"
-    elif spec.connection.kind == "delta":
-        ll, words = 2 * pr.phase_resistance_ohm / 3, "L1-L2, L2-L3, L3-L1 (one phase across the other two)"
-    else:
-        ll, words = None, ""
+    ll = line_resistance_ohm(pr.phase_resistance_ohm, spec.connection.kind)
+    words = {
+        "star": "U1-V1, V1-W1, W1-U1 (two phases in series)",
+        "delta": "L1-L2, L2-L3, L3-L1 (one phase across the other two)",
+    }.get(spec.connection.kind, "")
     if spec.connection.kind == "delta":
         pairs = ("L1-L2", "L2-L3", "L3-L1")
     elif lay.phases == 3:
@@ -1961,7 +1921,7 @@ def _test_plan(ctx: _Ctx) -> list:
     for rpm in _bench_speeds(d):
         v = per_rpm * rpm
         lo, hi = _band(v, OPEN_CIRCUIT_BAND_PCT)
-        hz = lay.pole_pairs * rpm / 60
+        hz = electrical_hz(lay.pole_pairs, rpm)
         add(
             f"open circuit at {rpm:g} rpm",
             f"AC volts across the terminals, {joined}nothing else connected; the speed reads as "

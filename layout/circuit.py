@@ -77,6 +77,47 @@ _CONVERGED_ABS_W = 1e-6
 _CHUNK_ELEMENTS = 1 << 21
 
 
+# Diode bridge ratings: twice the highest open-circuit voltage, 1.5 times the highest
+# current (common practice).
+BRIDGE_VOLTAGE_FACTOR = 2.0
+BRIDGE_CURRENT_FACTOR = 1.5
+
+
+@dataclass(frozen=True)
+class BridgeRating:
+    """The least a diode bridge should be rated for (V, A), and what sets it."""
+
+    voltage_v: float  # BRIDGE_VOLTAGE_FACTOR × the open-circuit rectified peak at max_rpm
+    current_a: float  # BRIDGE_CURRENT_FACTOR × the highest DC current on the output curve
+    open_circuit_peak_v: float
+    max_current_a: float
+    max_current_rpm: float
+
+
+def bridge_rating(open_circuit_peak_v: float, max_current_a: float, max_current_rpm: float) -> BridgeRating:
+    """Minimum bridge rating (V, A) with the margins of common practice."""
+    return BridgeRating(
+        BRIDGE_VOLTAGE_FACTOR * open_circuit_peak_v,
+        BRIDGE_CURRENT_FACTOR * max_current_a,
+        open_circuit_peak_v,
+        max_current_a,
+        max_current_rpm,
+    )
+
+
+def line_resistance_ohm(phase_resistance_ohm: float, connection: str) -> float | None:
+    """Resistance (Ω) measured between two line terminals of the joined winding.
+
+    Star: two phases in series, 2R. Delta: one phase in parallel with the other two in
+    series, R·2R/3R = 2R/3. Single phase has no line pair other than the winding: None.
+    """
+    if connection == "star":
+        return 2 * phase_resistance_ohm
+    if connection == "delta":
+        return 2 * phase_resistance_ohm / 3
+    return None
+
+
 @dataclass(frozen=True)
 class Load:
     """DC-side load of the bridge.

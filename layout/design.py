@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from layout.bill import Bill, materials_bill
 from layout.emf import CoilLinkage, FluxMap, coil_linkage, flux_map, phase_emf
 from layout.forces import Forces, compute_forces
 from layout.geometry import Geometry, resolve_geometry
@@ -25,6 +26,7 @@ class Design:
     prediction: Prediction
     forces: Forces
     warnings: tuple[Warning, ...]
+    bill: Bill
 
     @property
     def geometric_pitch_factor(self) -> float:
@@ -89,4 +91,5 @@ def compute_design(spec: Spec) -> Design:
         prediction=pred,
         forces=forces,
         warnings=tuple(warnings),
+        bill=materials_bill(spec, geo, pred, lay.phases),
     )

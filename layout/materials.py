@@ -95,6 +95,12 @@ STATOR_BINDERS_MAX_C: dict[str, float] = {
     "abs": 100.0,
 }
 EPOXY_DENSITY_G_CM3 = 1.15  # common handbook value
+# Density of each binder where it is known: the printed ones are the disc plastics; a
+# casting polyester varies too much with its filler to name one.
+BINDER_DENSITY_G_CM3: dict[str, float] = {
+    "epoxy": EPOXY_DENSITY_G_CM3,
+    **{b: DISC_MATERIALS[b].density_g_cm3 for b in STATOR_BINDERS_MAX_C if b in DISC_MATERIALS},
+}
 
 # Annealed copper, IEC 60028: resistivity 1/58 Ω·mm²/m at 20 °C, temperature coefficient
 # 0.00393 /K at 20 °C.

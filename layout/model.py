@@ -11,11 +11,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from layout.circuit import Load, simulate_rectifier
+from layout.circuit import BridgeRating, Load, bridge_rating, simulate_rectifier
 from layout.emf import PhaseEmf, rms, thd
 from layout.geometry import Geometry
 from layout.spec import Spec
-from layout.winding import Layout
+from layout.winding import Layout, electrical_hz
 from layout.wire import (
     Wire,
     choose_wire,
@@ -80,7 +80,14 @@ class Prediction:
         return self.emf.phase_v * self.turns_per_coil * rpm * 2 * math.pi / 60
 
     def line_emf_v(self, rpm: float) -> np.ndarray:
+        """Open-circuit EMF between line terminals over one electrical period at `rpm` (V)."""
         return self.emf.line_v * self.turns_per_coil * rpm * 2 * math.pi / 60
+
+    @property
+    def bridge(self) -> BridgeRating:
+        """The least rating (V, A) for a diode bridge on this winding, from its curve."""
+        top = max(self.curve, key=lambda op: op.dc_current_a)
+        return bridge_rating(self.open_circuit_dc_peak_at_max_v, top.dc_current_a, top.rpm)
 
 
 def _omega(rpm):
@@ -131,7 +138,7 @@ def _simulate(spec, layout, emf, turns, r20_phase, l_phase, rpms, load: Load, te
     alpha = copper_resistivity(np.asarray(temps_c)) / copper_resistivity(20.0)
     return simulate_rectifier(
         waves,
-        frequency_hz=p * np.asarray(rpms) / 60,
+        frequency_hz=electrical_hz(p, rpms),
         resistance_ohm=r20_phase * alpha,
         inductance_h=l_phase,
         connection=_CONNECTION[spec.connection.kind],
@@ -272,7 +279,7 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
         emf=emf,
         rated=rated,
         curve=curve,
-        electrical_hz_at_rated=layout.pole_pairs * ta.rated_rpm / 60,
+        electrical_hz_at_rated=float(electrical_hz(layout.pole_pairs, ta.rated_rpm)),
     )
 
 

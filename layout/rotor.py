@@ -90,6 +90,17 @@ class PocketMark:
     face_up: str  # "N" or "S": the pole that faces up when the magnet is placed
 
 
+def pockets_either_side(magnet_count: int, disc: int, part_angle: float) -> tuple[int, int]:
+    """The two pocket numbers (from 1) either side of an angle (degrees) as marked on the part.
+
+    Pocket k sits at machine angle 360°·(k−1)/P; disc 2's part angles are mirrored, and the
+    mirror is its own inverse, so `part_angle_deg` also maps a part angle back to the machine.
+    """
+    machine = part_angle_deg(disc, part_angle)
+    k = int(math.floor(machine / (360.0 / magnet_count) + 1e-9)) % magnet_count
+    return tuple(sorted((k + 1, (k + 1) % magnet_count + 1)))
+
+
 def pocket_marks(geo: Geometry, disc: int) -> tuple[PocketMark, ...]:
     """Pocket → (angle on the part, face up) for one disc as made, magnet side up.
 

@@ -23,6 +23,21 @@ PACEMAKER_DISTANCE_MM = 150  # keep strong magnets this far from implants (from 
 DEFER = "follow local codes and have a licensed electrician check the installation"
 
 
+INSULATION_TEST_ELV_V = 250  # insulation tester voltage for extra-low-voltage windings (common practice)
+INSULATION_TEST_LV_V = 500  # and for windings whose open-circuit voltage exceeds it (common practice)
+INSULATION_MIN_MOHM = 1.0  # windings to frame, low-voltage machines (common practice)
+
+
+def above_extra_low_voltage(pred: Prediction) -> bool:
+    """True when the open-circuit voltage at max_rpm exceeds the IEC 61140 extra-low limits."""
+    return pred.open_circuit_line_rms_at_max_v > ELV_AC_V or pred.open_circuit_dc_peak_at_max_v > ELV_DC_V
+
+
+def insulation_test_v(pred: Prediction) -> int:
+    """DC voltage (V) to test the windings' insulation at: higher once above extra-low voltage."""
+    return INSULATION_TEST_LV_V if above_extra_low_voltage(pred) else INSULATION_TEST_ELV_V
+
+
 @dataclass(frozen=True)
 class Warning:
     code: str
@@ -39,7 +54,7 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
 
     v_ac = pred.open_circuit_line_rms_at_max_v
     v_dc = pred.open_circuit_dc_peak_at_max_v
-    if v_ac > ELV_AC_V or v_dc > ELV_DC_V:
+    if above_extra_low_voltage(pred):
         add(
             "voltage.above_elv",
             "danger",

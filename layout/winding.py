@@ -18,6 +18,26 @@ from dataclasses import dataclass
 import numpy as np
 
 PHASE_NAMES = ("A", "B", "C")
+# IEC 60034-8 terminal letters for phases A, B, C of the layout; each winding runs 1 → 2.
+TERMINAL_LETTERS = {"A": "U", "B": "V", "C": "W"}
+
+
+def terminal_pair(phase: str) -> tuple[str, str]:
+    """The IEC 60034-8 markings of one phase winding's start and end, e.g. ("U1", "U2")."""
+    t = TERMINAL_LETTERS[phase]
+    return f"{t}1", f"{t}2"
+
+
+def terminal_markings(phases: int) -> tuple[str, ...]:
+    """Every lead of the stator by its IEC 60034-8 marking: U1, U2 (, V1, V2, W1, W2)."""
+    return tuple(m for ph in PHASE_NAMES[:phases] for m in terminal_pair(ph))
+
+
+def electrical_hz(pole_pairs: int, rpm):
+    """Electrical frequency (Hz) at a shaft speed (rpm): f = p·rpm/60 (f = P·rpm/120)."""
+    return pole_pairs * np.asarray(rpm, dtype=float) / 60
+
+
 # Belt b (60° wide, counted from the offset) → (phase index, polarity).
 _BELTS = ((0, +1), (1, -1), (2, +1), (0, -1), (1, +1), (2, -1))
 _ANGLE_TOL_DEG = 0.1  # phases 120° apart within this
