@@ -1,0 +1,514 @@
+"""What the build package holds: every file, what it is, how to make it, and its writer.
+
+`catalogue(design)` lists the package's files in manifest order, family by family: the
+documents, the rotor discs and their templates, the stator mould, the winding jig and coil,
+the stationary steel plate, the assembly. Each `Item` carries the function that writes it;
+`Builder` builds each solid once for every file that needs it.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+
+from fab import outlines
+from layout.design import Design
+from layout.materials import DISC_MATERIALS
+from layout.rotor import disc_count, is_steel_disc, pocket_clearance_mm
+
+ANGULAR_TOLERANCE_RAD = 0.2  # STL facets: with the linear tolerance, fine enough to print
+CLEARANCE_TOL_MM = 1e-3  # the assembly's running clearance must equal the design's to this
+
+
+@dataclass
+class Item:
+    """One file of the package and how to make what it describes."""
+
+    file: str
+    what: str
+    material: str
+    make: str  # print | cut | wind | cast | assemble | read
+    how: str
+    write: Callable[[Builder, Path], dict]
+    quantity: int = 1
+    worker: bool = False  # written by the second process
+
+
+class Builder:
+    """The design and, per process, each solid built once for all the files that need it."""
+
+    def __init__(self, design: Design):
+        self.design = design
+        self._cache: dict = {}
+
+    def get(self, key: str, make: Callable):
+        if key not in self._cache:
+            self._cache[key] = make()
+        return self._cache[key]
+
+    def disc(self, disc: int):
+        from fab.solids import rotor_disc
+
+        return self.get(f"disc{disc}", lambda: rotor_disc(self.design, disc))
+
+    def jig(self):
+        from fab.solids import winding_jig
+
+        return self.get("jig", lambda: winding_jig(self.design))
+
+
+# --- writers --------------------------------------------------------------------------------
+
+
+def _solid_info(shape) -> dict:
+    c = shape.Center()  # centre of mass of the solid (OCCT volume properties)
+    return {
+        "volume_mm3": round(float(shape.Volume()), 3),
+        "center_of_mass_mm": [round(float(c.x), 6), round(float(c.y), 6), round(float(c.z), 6)],
+    }
+
+
+def write_step(shape, path: Path) -> dict:
+    from OCP.IFSelect import IFSelect_RetDone
+
+    if shape.exportStep(str(path)) != IFSelect_RetDone:
+        raise OSError(0, "the STEP writer failed", str(path))
+    return _solid_info(shape)
+
+
+def write_stl(shape, path: Path, tolerance_mm: float, bed_mm: float = float("inf")) -> dict:
+    shape.exportStl(
+        str(path),
+        tolerance=tolerance_mm,
+        angularTolerance=ANGULAR_TOLERANCE_RAD,
+        relative=False,
+        parallel=False,
+    )
+    info = _solid_info(shape)
+    info["triangles"] = (path.stat().st_size - 84) // 50  # binary STL: 80 + 4 header bytes, 50 a facet
+    box = shape.BoundingBox()
+    size = sorted((box.xlen, box.ylen), reverse=True)
+    info["size_mm"] = [round(box.xlen, 2), round(box.ylen, 2), round(box.zlen, 2)]
+    if size[0] > bed_mm:
+        info["note"] = (
+            f"{size[0]:.0f} mm across, more than fab.print_bed_mm = {bed_mm:g}: print it in parts "
+            "or make it from the DXF drawings"
+        )
+    return info
+
+
+def _step(make: Callable[[Builder], object]):
+    return lambda b, path: write_step(make(b), path)
+
+
+def _stl(make: Callable[[Builder], object]):
+    def write(b: Builder, path: Path) -> dict:
+        fb = b.design.spec.fab
+        return write_stl(make(b), path, fb.stl_tolerance_mm, fb.print_bed_mm)
+
+    return write
+
+
+def _dxf(flat_of: Callable[[Design, float], outlines.Flat], material: str):
+    from fab.drawings import part_note, write_dxf
+
+    def write(b: Builder, path: Path) -> dict:
+        kerf = b.design.spec.fab.kerf_mm
+        flat = flat_of(b.design, kerf)
+        write_dxf(flat, path, part_note(flat, material, kerf, b.design.spec.name))
+        return {"thickness_mm": flat.thickness_mm, "kerf_mm": kerf}
+
+    return write
+
+
+def _text(render: Callable[[Design], str]):
+    def write(b: Builder, path: Path) -> dict:
+        path.write_text(render(b.design) + "\n", encoding="utf-8")
+        return {}
+
+    return write
+
+
+def _plan_text(design: Design) -> str:
+    from fab.report import plan_text
+
+    return plan_text(design)
+
+
+def _plan_json(design: Design) -> str:
+    from fab.report import plan_json
+
+    return json.dumps(plan_json(design), indent=2)
+
+
+# Cautions every package carries, unless one of the design's warnings (codes) says it already.
+_GENERAL_CAUTIONS = (
+    (
+        {"magnet.pinch"},
+        "Magnets crush fingers and snap together: handle one at a time, slide them, keep spacers "
+        "between them, wear eye protection.",
+    ),
+    ({"magnet.pacemaker"}, "Strong magnets upset pacemakers and other implants: keep them away."),
+    (
+        {"rotor.spinning", "disc.hoop_stress"},
+        "Spinning discs burst and throw fragments: balance the rotor, guard it, make the first spins "
+        "slow and stand out of the discs' plane.",
+    ),
+    (
+        {"voltage.above_elv", "voltage.open_circuit"},
+        "The open-circuit voltage rises with speed and at runaway can be lethal: never let the machine "
+        "run unloaded, enclose the terminals and the rectifier.",
+    ),
+    (
+        {"coil.temperature", "coil.overspeed_heat", "coil.current_density"},
+        "Coils get hot under load: let them cool before touching the stator.",
+    ),
+    (
+        set(),
+        "Casting resin and its hardener burn skin and eyes and their fumes harm the lungs: gloves, "
+        "goggles, ventilation, and the resin maker's data sheet.",
+    ),
+)
+
+
+def safety_text(design: Design) -> str:
+    """The cautions of this design, with its figures, and the ones every build carries."""
+    spec = design.spec
+    out = [
+        f"SAFETY: {spec.name} ({spec.purpose})",
+        "",
+        "Read this before making anything. The figures come from this design's model: check them.",
+    ]
+    for severity, heading in (("danger", "DANGER"), ("warning", "WARNING"), ("info", "GOOD PRACTICE")):
+        ws = [w for w in design.warnings if w.severity == severity]
+        if ws:
+            out += ["", heading]
+            out += [f"- {w.message} [{w.code}]" for w in ws]
+    codes = {w.code for w in design.warnings}
+    general = [line for covered, line in _GENERAL_CAUTIONS if not codes & covered]
+    if general:
+        out += ["", "ALWAYS"] + [f"- {line}" for line in general]
+    out += [
+        "",
+        "This package is a design aid, not a certified design. Follow local codes and licensed "
+        "practice, and have a licensed electrician check anything connected to a building's wiring.",
+    ]
+    return "\n".join(out)
+
+
+# --- the catalogue of files -------------------------------------------------------------------
+
+
+def catalogue(design: Design) -> list[Item]:
+    """Every file of the package, in the order of the manifest."""
+    return [
+        *document_items(design),
+        *rotor_items(design),
+        *mould_items(design),
+        *winding_items(design),
+        *plate_items(design),
+        *assembly_items(design),
+    ]
+
+
+def document_items(design: Design) -> list[Item]:
+    """The cautions and the plan, as text and as JSON."""
+    return [
+        Item(
+            "SAFETY.txt",
+            "cautions for building and running this machine",
+            "-",
+            "read",
+            "read it first",
+            _text(safety_text),
+        ),
+        Item(
+            "plan.txt",
+            "winding layout, predicted output, forces and warnings",
+            "-",
+            "read",
+            "the design's figures as tables",
+            _text(_plan_text),
+        ),
+        Item("plan.json", "the same as plan.txt, for scripts", "-", "read", "", _text(_plan_json)),
+    ]
+
+
+def rotor_items(design: Design) -> list[Item]:
+    """Each rotor disc as a solid, for the printer and flat; a placing template for steel discs."""
+    from fab import solids
+
+    spec = design.spec
+    ro = spec.rotor
+    mat = DISC_MATERIALS[ro.disc_material]
+    steel = is_steel_disc(spec)
+    lay = outlines.disc_layout(design)
+    jack = lay.jacking
+    tapped = f"tap the {lay.balance_screw} balance holes"
+    items: list[Item] = []
+    for disc in range(1, disc_count(spec) + 1):
+        name, role = f"rotor_disc_{disc}", outlines.rotor_disc_flat(design, disc).title
+        if steel:
+            make = "cut"
+            how = (
+                f"cut from {ro.disc_thickness_mm:g} mm {mat.name} plate (laser or waterjet) along CUT; "
+                f"etch or scribe ENGRAVE; {tapped}"
+            )
+        elif mat.printed:
+            make = "print"
+            how = "print magnet side up, solid infill; put each magnet in its pocket with the marked face up"
+        else:
+            make = "cut"
+            how = f"cut along CUT, mill the POCKET outlines {lay.pocket_depth_mm:g} mm deep; {tapped}"
+        if jack is not None and jack.on == "disc 2" and disc == 2:
+            how += f"; tap the {jack.screw} jacking screw holes"
+        disc_solid = _step(lambda b, d=disc: b.disc(d))
+        items.append(
+            Item(f"{name}.step", f"{role}, solid as made (magnet side up)", mat.name, make, how, disc_solid)
+        )
+        if mat.printed:
+            items.append(
+                Item(
+                    f"{name}.stl",
+                    f"{role} for the printer",
+                    mat.name,
+                    "print",
+                    how,
+                    _stl(lambda b, d=disc: b.disc(d)),
+                    worker=True,  # the other process has no templates to make for a printed disc
+                )
+            )
+        items.append(
+            Item(
+                f"{name}.dxf",
+                f"{role}, flat drawing",
+                mat.name,
+                make,
+                how,
+                _dxf(lambda d_, k, d=disc: outlines.rotor_disc_flat(d_, d, k), mat.name),
+            )
+        )
+        if steel:
+            how = (
+                "print, or cut from plywood or acrylic; pin it to the disc with two dowels, set each magnet "
+                "in its place with the marked face up, glue, lift the template off when cured"
+            )
+            tpl = f"magnet_template_{disc}"
+            what = f"magnet placing template for {role}, {pocket_clearance_mm(spec):g} mm a side"
+
+            def template(b, d=disc):
+                return b.get(f"template{d}", lambda: solids.magnet_template(b.design, d))
+
+            items.append(
+                Item(f"{tpl}.stl", what, "printed PETG or PLA", "print", how, _stl(template), worker=True)
+            )
+            items.append(
+                Item(
+                    f"{tpl}.dxf",
+                    what + ", flat drawing",
+                    "plywood or acrylic",
+                    "cut",
+                    how,
+                    _dxf(lambda d_, k, d=disc: outlines.magnet_template_flat(d_, d, k), "plywood or acrylic"),
+                )
+            )
+    return items
+
+
+def mould_items(design: Design) -> list[Item]:
+    """The stator's casting mould: one printed piece, or boards cut from the drawings."""
+    from fab import solids
+
+    def mould(b):
+        return b.get("mould", lambda: solids.stator_mould(b.design))
+
+    n_coils = len(design.geometry.coil_indices)
+    how = (
+        f"wax it; pour a first layer {design.spec.stator.resin_cover_mm:g} mm thick and let it gel, lay the "
+        "coils over their places, bring the phase ends out through the lead slots (sealed with clay), fill it"
+    )
+    items = [
+        Item(
+            "stator_mould.step",
+            "casting mould for the stator, one piece",
+            "printed PETG, or boards",
+            "print",
+            how,
+            _step(mould),
+            worker=True,
+        ),
+        Item(
+            "stator_mould.stl",
+            "casting mould for the printer",
+            "PETG",
+            "print",
+            how,
+            _stl(mould),
+            worker=True,
+        ),
+    ]
+    for flat in outlines.mould_flats(design):
+        qty = n_coils if flat.part == "stator_mould_core" else 1
+        items.append(
+            Item(
+                f"{flat.part}.dxf",
+                f"{flat.title}: the mould from boards",
+                "plywood or MDF",
+                "cut",
+                f"cut from {flat.thickness_mm:g} mm board; glue the frame, island and places on the base "
+                "where drawn",
+                _dxf(lambda d_, k, p=flat.part: _mould_flat(d_, k, p), "plywood or MDF"),
+                qty,
+            )
+        )
+    return items
+
+
+def winding_items(design: Design) -> list[Item]:
+    """The winding jig (stacked, core, cheeks; printed or cut) and one coil as wound."""
+    pred = design.prediction
+    wire = pred.wire.name + (f" x {pred.wire.strands} in hand" if pred.wire.strands > 1 else "")
+    how = (
+        f"bolt the core between the cheeks on a winder shaft, pins through; wind {pred.turns_per_coil} "
+        f"turns of {wire}, start lead out through the slot; tie the coil before taking the jig apart"
+    )
+    return [
+        Item(
+            "winding_jig.step",
+            "coil winding jig, stacked as used",
+            "printed, or plywood",
+            "print",
+            how,
+            _step(lambda b: b.jig()["stack"]),
+        ),
+        Item(
+            "winding_jig_core.stl",
+            "winding jig core: the coil's hole",
+            "printed PETG or PLA",
+            "print",
+            how,
+            _stl(lambda b: b.jig()["core"]),
+        ),
+        Item(
+            "winding_jig_cheek.stl",
+            "winding jig cheek",
+            "printed PETG or PLA",
+            "print",
+            how,
+            _stl(lambda b: b.jig()["cheek"]),
+            2,
+        ),
+        Item(
+            "winding_jig_core.dxf",
+            "winding jig core, flat drawing",
+            "board as thick as the coil",
+            "cut",
+            how,
+            _dxf(outlines.jig_core_flat, "board"),
+        ),
+        Item(
+            "winding_jig_cheek.dxf",
+            "winding jig cheek, flat drawing",
+            "plywood",
+            "cut",
+            how,
+            _dxf(outlines.jig_cheek_flat, "plywood"),
+            2,
+        ),
+        Item(
+            "coil.step",
+            f"one coil as wound: {pred.turns_per_coil} turns of {wire}",
+            "enamelled copper",
+            "wind",
+            "wind them all alike on the jig",
+            _step(_coil),
+            len(design.geometry.coil_indices),
+            worker=True,
+        ),
+    ]
+
+
+def plate_items(design: Design) -> list[Item]:
+    """The steel plate behind a stator that stands still (one-disc steel-stator machines)."""
+    from fab import solids
+
+    ro = design.spec.rotor
+    if ro.topology != "one_disc_steel_stator":
+        return []
+    jack = outlines.disc_layout(design).jacking
+    how = f"cut from {ro.stator_plate_thickness_mm:g} mm steel plate"
+    if jack is not None and jack.on == "stator plate":
+        how += f"; tap the {jack.screw} jacking screw holes"
+    return [
+        Item(
+            "stator_plate.step",
+            "steel plate behind the stator",
+            "steel",
+            "cut",
+            how,
+            _step(lambda b: solids.stator_plate(b.design)),
+            worker=True,
+        ),
+        Item(
+            "stator_plate.dxf",
+            "steel plate behind the stator, flat drawing",
+            "steel",
+            "cut",
+            how,
+            _dxf(outlines.stator_plate_flat, "steel"),
+        ),
+    ]
+
+
+def assembly_items(design: Design) -> list[Item]:
+    """The machine assembled, checked for collisions and for the running clearance."""
+    return [
+        Item(
+            "assembly.step",
+            "the machine assembled: discs, magnets, stator and coils in place",
+            "-",
+            "assemble",
+            "for checking fits and designing the frame; magnets N up red, S up blue",
+            _write_assembly,
+        ),
+    ]
+
+
+def _mould_flat(design: Design, kerf: float, part: str) -> outlines.Flat:
+    return next(f for f in outlines.mould_flats(design, kerf) if f.part == part)
+
+
+def _coil(b: Builder):
+    from fab.solids import coil_solid
+
+    return coil_solid(b.design, b.design.geometry.coil_indices[0])
+
+
+def _write_assembly(b: Builder, path: Path) -> dict:
+    from fab.solids import assembly, check_assembly, standing_envelope, write_assembly_step
+
+    design = b.design
+    parts = assembly(design, {d: b.disc(d) for d in range(1, disc_count(design.spec) + 1)})
+    check = check_assembly(parts, standing_envelope(design))
+    want = design.spec.rotor.running_clearance_mm
+    if check.collisions:
+        a, c, v = check.collisions[0]
+        raise RuntimeError(f"assembly: {a} and {c} share {v:.3f} mm³ (parts must not collide)")
+    if abs(check.running_clearance_mm - want) > CLEARANCE_TOL_MM:
+        raise RuntimeError(
+            f"assembly: running clearance {check.running_clearance_mm:.4f} mm, the design asks {want:g}"
+        )
+    write_assembly_step(parts, str(path), design.spec.name)
+    return {
+        "volume_mm3": round(sum(float(p.solid.Volume()) for p in parts), 3),
+        "parts": len(parts),
+        "collision_pairs_checked": check.pairs_checked,
+        "collisions": len(check.collisions),
+        "running_clearance_mm": round(check.running_clearance_mm, 6),
+        "gap_as_placed_mm": round(check.placed_gap_mm, 6),
+    }
+
+
+# --- writing ---------------------------------------------------------------------------------

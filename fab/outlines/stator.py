@@ -1,0 +1,306 @@
+"""The stator: its lugged outline and lead slots, the mould it is cast in, and the steel
+plate behind a stator that stands still; machine coordinates seen from above."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from fab.outlines.discs import (
+    _ring_hole,
+    jacking,
+)
+from fab.outlines.shapes import (
+    LEAD_SLOT_MIN_MM,
+    PLACE_CLEARANCE_MM,
+    STUD_CLEARANCE_MM,
+    Feature,
+    Flat,
+    Path,
+    _rect,
+    circle,
+    offset_convex,
+    polygon,
+)
+from layout.design import Design
+from layout.winding import terminal_markings
+from layout.wire import bundle_diameter_mm
+
+
+@dataclass(frozen=True)
+class StatorLayout:
+    inner_radius_mm: float
+    outer_radius_mm: float
+    lug_radius_mm: float  # centre of the mounting holes
+    lug_half_width_mm: float
+    lug_angles_deg: tuple[float, ...]
+    hole_mm: float
+    mould_radius_mm: float
+    lead_slot_width_mm: float
+    lead_slot_angles_deg: tuple[float, ...]
+    lead_names: tuple[str, ...]
+    plate_inner_radius_mm: float | None
+
+
+def stator_layout(design: Design) -> StatorLayout:
+    spec, geo = design.spec, design.geometry
+    st = spec.stator
+    r_in = geo.coil.r_min_mm - st.resin_rim_mm
+    r_out = geo.coil.r_max_mm + st.resin_rim_mm
+    hole = st.mounting_hole_diameter_mm
+    r_lug = max(r_out, design.forces.disc_outer_radius_mm + STUD_CLEARANCE_MM) + hole / 2
+    half = hole  # half a hole's diameter of material each side of it
+    n = st.mounting_lugs
+    lugs = tuple(360.0 * (k + 0.5) / n for k in range(n))
+    wire = design.prediction.wire
+    slot = max(LEAD_SLOT_MIN_MM, bundle_diameter_mm(wire) + 1.5)
+    names = terminal_markings(st.phases)
+    pitch = 2.5 * slot / r_out  # radians between slot centres on the rim
+    slots = tuple(math.degrees((i - (len(names) - 1) / 2) * pitch) for i in range(len(names)))
+    plate_in = None
+    if spec.rotor.topology == "one_disc_steel_stator":
+        jack = jacking(design)
+        plate_in = r_in
+        if jack is not None:
+            plate_in = min(r_in, jack.radius_mm - jack.tap_drill_mm / 2 - spec.rotor.min_web_mm)
+    return StatorLayout(
+        inner_radius_mm=r_in,
+        outer_radius_mm=r_out,
+        lug_radius_mm=r_lug,
+        lug_half_width_mm=half,
+        lug_angles_deg=lugs,
+        hole_mm=hole,
+        mould_radius_mm=r_lug + half + st.mould_wall_mm,
+        lead_slot_width_mm=slot,
+        lead_slot_angles_deg=slots,
+        lead_names=names,
+        plate_inner_radius_mm=plate_in,
+    )
+
+
+def lugged_outline(sl: StatorLayout, g: float = 0.0) -> Path:
+    """The stator's rim: a circle with a lug round every mounting hole, grown by g."""
+    R = sl.outer_radius_mm + g
+    w = sl.lug_half_width_mm + g
+    rl = sl.lug_radius_mm
+    s = math.degrees(math.asin(w / R))
+    xy, bulge = [], []
+    angles = sl.lug_angles_deg
+    for i, phi in enumerate(angles):
+        nxt = angles[(i + 1) % len(angles)] + (360.0 if i == len(angles) - 1 else 0.0)
+        p = math.radians(phi)
+        u = np.array([math.cos(p), math.sin(p)])
+        v = np.array([-math.sin(p), math.cos(p)])
+        a = math.radians(phi - s)
+        xy.append([R * math.cos(a), R * math.sin(a)])
+        bulge.append(0.0)  # straight side of the lug
+        xy.append(rl * u - w * v)
+        bulge.append(1.0)  # half circle round the hole
+        xy.append(rl * u + w * v)
+        bulge.append(0.0)
+        d = math.radians(phi + s)
+        xy.append([R * math.cos(d), R * math.sin(d)])
+        span = math.radians((nxt - s) - (phi + s))
+        bulge.append(math.tan(span / 4))  # rim arc to the next lug
+    return Path(np.array(xy), np.array(bulge))
+
+
+def _lug_holes(sl: StatorLayout, g: float) -> list[Feature]:
+    return [
+        Feature(
+            "lug",
+            _ring_hole(sl.lug_radius_mm, a, sl.hole_mm, g),
+            f"mounting hole {k}",
+            "stator.mounting_hole_diameter_mm",
+            sl.hole_mm,
+        )
+        for k, a in enumerate(sl.lug_angles_deg, start=1)
+    ]
+
+
+def coil_place(design: Design, index: int) -> Path:
+    """Where coil `index` sits over the mould: its hole, less the clearance it slides on with."""
+    geo = design.geometry
+    hole = offset_convex(geo.coil.hole_mm, -PLACE_CLEARANCE_MM)
+    return polygon(hole).moved(360.0 * (index - 1) / geo.positions)
+
+
+def stator_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
+    """The cast stator seen from above: rim with lugs, bore, mounting holes and the window
+    each coil's place leaves. Also the cavity of the mould and the frame cut round it."""
+    spec, geo = design.spec, design.geometry
+    sl = stator_layout(design)
+    g = kerf_mm / 2
+    holes = [
+        Feature(
+            "bore",
+            circle(0, 0, sl.inner_radius_mm - g),
+            "stator bore",
+            "stator.resin_rim_mm",
+            spec.stator.resin_rim_mm,
+        )
+    ]
+    holes += _lug_holes(sl, g)
+    for idx in geo.coil_indices:
+        holes.append(
+            Feature(
+                "window",
+                polygon(offset_convex(coil_place(design, idx).xy, -g)),
+                f"coil place {idx}",
+                "stator.hole_margin_mm",
+                spec.stator.hole_margin_mm,
+            )
+        )
+    reference = []
+    for idx in geo.coil_indices:
+        outline, hole = geo.coil_polygons(idx)
+        reference.append(
+            Feature(
+                "coil",
+                polygon(outline),
+                f"coil {idx}",
+                "stator.coil_clearance_mm",
+                spec.stator.coil_clearance_mm,
+            )
+        )
+    return Flat(
+        part="stator",
+        title="cast stator",
+        thickness_mm=spec.stator.thickness_mm,
+        outline=Feature(
+            "outline", lugged_outline(sl, g), "stator rim", "stator.resin_rim_mm", spec.stator.resin_rim_mm
+        ),
+        holes=tuple(holes),
+        reference=tuple(reference),
+        web_mm=spec.rotor.min_web_mm,
+    )
+
+
+def lead_slots(design: Design) -> list[Feature]:
+    """Slots in the mould's wall at the terminal side (0°) that carry the phase ends out."""
+    sl = stator_layout(design)
+    w = sl.lead_slot_width_mm
+    out = []
+    for name, a in zip(sl.lead_names, sl.lead_slot_angles_deg, strict=True):
+        rect = _rect(sl.outer_radius_mm - 1.0, sl.mould_radius_mm + 1.0, w / 2)
+        lugs = float(design.spec.stator.mounting_lugs)
+        out.append(Feature("slot", polygon(rect).moved(a), f"lead slot {name}", "stator.mounting_lugs", lugs))
+    return out
+
+
+def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
+    """The mould as boards: base, frame round the stator, island for its bore, one core per coil.
+
+    The frame, island and cores are cut from a board as thick as the stator; glued on the
+    base they make the same cavity as the printed mould.
+    """
+    spec, geo = design.spec, design.geometry
+    sl = stator_layout(design)
+    g = kerf_mm / 2
+    st = spec.stator
+    cavity = stator_flat(design)
+    windows = tuple(Feature("window", f.path, f.label, f.key) for f in cavity.holes if f.kind == "window")
+    base = Flat(
+        part="stator_mould_base",
+        title="stator mould base board",
+        thickness_mm=st.mould_wall_mm,
+        outline=Feature(
+            "outline",
+            circle(0, 0, sl.mould_radius_mm + g),
+            "mould edge",
+            "stator.mould_wall_mm",
+            st.mould_wall_mm,
+        ),
+        holes=tuple(_lug_holes(sl, g)),  # pins stand here for the mounting holes
+        reference=(
+            Feature("cavity", cavity.outline.path, "inside of the frame", "stator.resin_rim_mm"),
+            Feature("island", circle(0, 0, sl.inner_radius_mm), "island", "stator.resin_rim_mm"),
+        )
+        + windows,
+    )
+    frame = Flat(
+        part="stator_mould_frame",
+        title="stator mould frame",
+        thickness_mm=st.thickness_mm,
+        outline=Feature(
+            "outline",
+            circle(0, 0, sl.mould_radius_mm + g),
+            "mould edge",
+            "stator.mould_wall_mm",
+            st.mould_wall_mm,
+        ),
+        holes=(
+            Feature(
+                "cavity",
+                lugged_outline(sl, -g),
+                "inside of the frame",
+                "stator.resin_rim_mm",
+                st.resin_rim_mm,
+            ),
+        ),
+        reference=tuple(lead_slots(design)),
+        web_mm=0.0,
+    )
+    island = Flat(
+        part="stator_mould_island",
+        title="stator mould island",
+        thickness_mm=st.thickness_mm,
+        outline=Feature(
+            "outline", circle(0, 0, sl.inner_radius_mm + g), "island", "stator.resin_rim_mm", st.resin_rim_mm
+        ),
+    )
+    place = offset_convex(geo.coil.hole_mm, g - PLACE_CLEARANCE_MM)
+    core = Flat(
+        part="stator_mould_core",
+        title="stator mould coil place",
+        thickness_mm=st.thickness_mm,
+        outline=Feature(
+            "outline",
+            polygon(place - (polygon(geo.coil.hole_mm).centroid()[0], 0.0)),
+            "coil place",
+            "stator.hole_margin_mm",
+            st.hole_margin_mm,
+        ),
+    )
+    return [base, frame, island, core]
+
+
+def stator_plate_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
+    """The steel plate behind a one-disc stator; tapped for the jacking screws if needed."""
+    spec = design.spec
+    sl = stator_layout(design)
+    g = kerf_mm / 2
+    holes = [
+        Feature(
+            "bore",
+            circle(0, 0, sl.plate_inner_radius_mm - g),
+            "plate bore",
+            "stator.resin_rim_mm",
+            spec.stator.resin_rim_mm,
+        )
+    ]
+    holes += _lug_holes(sl, g)
+    jack = jacking(design)
+    if jack is not None and jack.on == "stator plate":
+        for k, a in enumerate(jack.angles_deg, start=1):
+            holes.append(
+                Feature(
+                    "jack",
+                    _ring_hole(jack.radius_mm, a, jack.tap_drill_mm, g),
+                    f"jacking screw hole {k}",
+                    "rotor.jacking_circle_mm",
+                    2 * jack.radius_mm,
+                )
+            )
+    return Flat(
+        part="stator_plate",
+        title="steel stator plate",
+        thickness_mm=spec.rotor.stator_plate_thickness_mm,
+        outline=Feature(
+            "outline", lugged_outline(sl, g), "plate rim", "stator.resin_rim_mm", spec.stator.resin_rim_mm
+        ),
+        holes=tuple(holes),
+        web_mm=spec.rotor.min_web_mm,
+    )
