@@ -141,6 +141,7 @@ def bz_each(sources: Sources, points_mm: np.ndarray) -> np.ndarray:
 
 
 def subset(sources: Sources, keep: np.ndarray) -> Sources:
+    """The sources selected by `keep` (boolean mask or indices), unchanged (mm, rad, T)."""
     return Sources(
         block=sources.block[keep],
         center_mm=sources.center_mm[keep],

@@ -9,7 +9,7 @@ import numpy as np
 
 from layout.field import Sources, bz
 from layout.geometry import Geometry
-from layout.materials import DISC_MATERIALS, MAGNET_GRADES
+from layout.materials import DISC_MATERIALS, MAGNET_GRADES, NDFEB_DENSITY_G_CM3
 from layout.spec import Spec, magnet_radial_extent_mm, magnet_tangential_extent_mm
 
 MU0 = 4e-7 * math.pi
@@ -43,12 +43,13 @@ def disc_outer_radius_mm(spec: Spec) -> float:
 
 
 def magnet_mass_g(spec: Spec) -> float:
+    """Mass of one magnet (g): its volume (mm³) times the grade's density, NdFeB if none is named."""
     mg = spec.magnets
     if mg.shape == "block":
         vol_mm3 = mg.length_mm * mg.width_mm * mg.thickness_mm
     else:
         vol_mm3 = math.pi * mg.diameter_mm**2 / 4 * mg.thickness_mm
-    density = MAGNET_GRADES[mg.grade].density_g_cm3 if mg.grade else 7.5
+    density = MAGNET_GRADES[mg.grade].density_g_cm3 if mg.grade else NDFEB_DENSITY_G_CM3
     return vol_mm3 * 1e-3 * density
 
 
@@ -79,6 +80,16 @@ def hoop_stress_mpa(density_kg_m3, poisson, omega, r_out_m, r_in_m) -> float:
 
 
 def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t: float) -> Forces:
+    """Disc attraction (N), steel flux density (T), hoop stress (MPa) and magnet pull (N).
+
+    Attraction: Maxwell stress B²/(2μ0) integrated over one pole pitch on a plane where the
+    tangential field vanishes (the mid-plane of two equal discs, a steel face), times the
+    magnet count (e.g. Furlani, Permanent Magnet and Electromechanical Devices, 2001). Steel
+    plates: the flux of one pole, from Bz at the plate face, splits both ways through the
+    plate's section (common practice), against `STEEL_B_LIMIT_T`. Hoop stress of the
+    spinning disc at max_rpm: Timoshenko & Goodier, Theory of Elasticity, with the magnets as
+    a rim load. Coordinates in mm; `sources` as built by `layout.field`.
+    """
     ro, mg = spec.rotor, spec.magnets
     # Maxwell stress on a plane where the tangential field vanishes gives the whole
     # attraction: the mid-plane of two equal discs, or the steel plate's face.

@@ -45,6 +45,7 @@ class CoilShape:
 
     @property
     def thickness_mm(self) -> float:
+        """Axial depth of the coil (mm), face to face."""
         return self.z_max_mm - self.z_min_mm
 
     @property
@@ -54,10 +55,12 @@ class CoilShape:
 
     @property
     def r_min_mm(self) -> float:
+        """Radius (mm) of the coil's innermost point, on its centre line."""
         return float(self.outline_mm[:, 0].min())
 
     @property
     def r_max_mm(self) -> float:
+        """Radius (mm) of the coil's outermost corner."""
         return float(np.hypot(self.outline_mm[:, 0], self.outline_mm[:, 1]).max())
 
 
@@ -81,6 +84,7 @@ class Geometry:
 
 
 def remanence_t(spec: Spec) -> float:
+    """Br (T) at 20 °C: the design's own figure, else the grade's typical value (layout.materials)."""
     mg = spec.magnets
     return mg.remanence_t if mg.remanence_t is not None else MAGNET_GRADES[mg.grade].remanence_t
 
@@ -178,6 +182,16 @@ def coil_shape(spec: Spec, z_min_mm: float, z_max_mm: float) -> CoilShape:
 
 
 def resolve_geometry(spec: Spec, coil_indices: tuple[int, ...]) -> Geometry:
+    """Every magnet of every disc at rotor angle 0, the steel surfaces and coil 1's shape (mm).
+
+    z = 0 is the stator's mid-plane. Discs sit the running clearance from the stator's
+    faces; a steel disc's surface behind its magnets, and for `one_disc_steel_stator` the
+    stationary plate's face behind the stator, become image planes (method of images for a
+    highly permeable half-space, magnetisation normal to the plate kept; e.g. Furlani 2001).
+    The coils lie inside the resin cover on both faces. Magnet j of disc 1 is at 360(j−1)/P
+    degrees, polarity alternating, magnetised +z for j = 1; the magnet of disc 2 facing it is
+    magnetised the same way along z, so N faces S across the stator and the flux crosses it.
+    """
     st, mg, ro = spec.stator, spec.magnets, spec.rotor
     s, g, h = st.thickness_mm, ro.running_clearance_mm, mg.thickness_mm
     br = remanence_t(spec)

@@ -27,6 +27,7 @@ SORT_KEYS = ("coils", "magnets", "winding_factor", "cogging_steps")
 
 
 def pair_notes(layout: Layout) -> list[str]:
+    """Short notes on one coil/magnet pair for the `pairs` table (balance, pull, factors)."""
     notes = layout_notes(layout)
     # Tooth coils as wide as a position can span two poles and cancel; a coreless coil
     # sized to one magnet does not, so say how to escape rather than reject the pair.

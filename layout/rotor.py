@@ -52,6 +52,7 @@ def pocket_depth_mm(spec: Spec) -> float:
 
 
 def disc_count(spec: Spec) -> int:
+    """Magnet discs on the rotor: 2 for `two_discs`, else 1."""
     return 2 if spec.rotor.topology == "two_discs" else 1
 
 

@@ -46,6 +46,14 @@ class Warning:
 
 
 def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Forces) -> list[Warning]:
+    """Every warning the design earns, most dangerous first within each subject.
+
+    Limits: IEC 61140 extra-low voltage (50 V AC rms, 120 V DC); current density in A/mm²,
+    coil and magnet temperatures in °C against the binder's and grade's limits
+    (layout.materials); steel flux density in T against `STEEL_B_LIMIT_T`; hoop stress against
+    the disc material's strength over `HOOP_SAFETY_FACTOR`; disc pull in N against
+    `JACKING_FORCE_N` (the last four common practice).
+    """
     out: list[Warning] = []
     ta = spec.target
 

@@ -78,14 +78,17 @@ class Layout:
     parallel_paths: int
 
     def phase_coils(self, phase: str) -> tuple[Coil, ...]:
+        """The coils of one phase ("A", "B" or "C"), in position order."""
         return tuple(c for c in self.coils if c.phase == phase)
 
     @property
     def phase_names(self) -> tuple[str, ...]:
+        """("A",) for a single-phase layout, ("A", "B", "C") for three phases."""
         return PHASE_NAMES[: self.phases]
 
     @property
     def series_coils_per_path(self) -> int:
+        """Coils in series in each parallel path of one phase."""
         return self.coils_per_phase[0] // self.parallel_paths
 
 

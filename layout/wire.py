@@ -33,6 +33,7 @@ class Wire:
 
     @property
     def copper_mm2(self) -> float:
+        """Copper cross-section of one turn (mm²), every strand counted."""
         return self.strands * math.pi * self.diameter_mm**2 / 4
 
 
@@ -89,6 +90,7 @@ def copper_resistivity(temperature_c: float) -> float:
 
 
 def coil_resistance_ohm(turns: int, mean_turn_mm: float, wire: Wire, temperature_c: float = 20.0) -> float:
+    """DC resistance (Ω) of a coil: ρ(T)·N·l_mean/A, mean turn in mm, IEC 60028 copper."""
     return copper_resistivity(temperature_c) * turns * mean_turn_mm / 1000 / wire.copper_mm2
 
 
