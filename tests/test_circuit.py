@@ -314,3 +314,40 @@ def test_good_inputs_run():
     # The baseline of test_bad_inputs_raise must itself be valid, or every case passes.
     res = simulate_rectifier(**GOOD)
     assert res.dc_current_a.shape == (1,) and res.converged.all()
+
+
+def _resistance_between(edges, a, b, n_nodes):
+    """Two-terminal resistance of a resistor network by nodal analysis (Kirchhoff), solved
+    directly: 1 A into node a, node b grounded."""
+    g = np.zeros((n_nodes, n_nodes))
+    for i, j, r in edges:
+        g[i, i] += 1 / r
+        g[j, j] += 1 / r
+        g[i, j] -= 1 / r
+        g[j, i] -= 1 / r
+    keep = [k for k in range(n_nodes) if k != b]
+    rhs = np.zeros(n_nodes)
+    rhs[a] = 1.0
+    v = np.linalg.solve(g[np.ix_(keep, keep)], rhs[keep])
+    return v[keep.index(a)]
+
+
+@pytest.mark.parametrize("r", [0.1, 1.7, 25.0])
+def test_line_resistance_matches_nodal_analysis(r):
+    from layout.circuit import line_resistance_ohm
+
+    # Star: lines 0, 1, 2 to the star point 3. Delta: one phase between each pair of lines.
+    star = [(0, 3, r), (1, 3, r), (2, 3, r)]
+    delta = [(0, 1, r), (1, 2, r), (2, 0, r)]
+    assert line_resistance_ohm(r, "star") == pytest.approx(_resistance_between(star, 0, 1, 4))
+    assert line_resistance_ohm(r, "delta") == pytest.approx(_resistance_between(delta, 0, 1, 3))
+    assert line_resistance_ohm(r, "single") is None
+
+
+def test_bridge_rating_keeps_the_margins_of_common_practice():
+    from layout.circuit import bridge_rating
+
+    # Twice the open-circuit peak, 1.5 times the highest current (common practice).
+    br = bridge_rating(61.0, 12.0, 400.0)
+    assert (br.voltage_v, br.current_a) == pytest.approx((122.0, 18.0))
+    assert (br.open_circuit_peak_v, br.max_current_a, br.max_current_rpm) == (61.0, 12.0, 400.0)

@@ -125,3 +125,16 @@ def test_balance_positions_none_when_nothing_fits():
     # 30 magnets 20 mm wide at 105 mm leave 2 mm between them and no rim.
     spec = spec_with("millrace", magnets__count=30, rotor__disc_outer_diameter_mm=250.0)
     assert balance_positions(spec, 125.0) is None
+
+
+@pytest.mark.parametrize("count", [8, 12, 16, 20])
+@pytest.mark.parametrize("disc", [1, 2])
+def test_pockets_either_side_are_the_two_nearest(count, disc):
+    from layout.rotor import part_angle_deg, pockets_either_side
+
+    # Brute force: the two pockets whose part angles lie just below and just above the angle.
+    for angle in (0.3, 33.75, 100.0, 359.0):
+        parts = {k: part_angle_deg(disc, 360.0 * (k - 1) / count) for k in range(1, count + 1)}
+        below = min(parts, key=lambda k: (angle - parts[k]) % 360)
+        above = min(parts, key=lambda k: (parts[k] - angle) % 360)
+        assert pockets_either_side(count, disc, angle) == tuple(sorted((below, above)))

@@ -162,3 +162,16 @@ def test_every_message_is_short_and_says_what_to_do():
         words = re.findall(r"[a-z]+", text.lower())
         acts = any(word.startswith(verb) for word in words for verb in ACTION_VERBS)
         assert acts or SPEC_KEY.search(text), w.code
+
+
+@pytest.mark.parametrize("demo", DEMOS)
+def test_insulation_test_voltage_rises_above_extra_low_voltage(demo):
+    from layout.safety import ELV_AC_V, ELV_DC_V, above_extra_low_voltage, insulation_test_v
+
+    pr = design(demo).prediction
+    # IEC 61140 extra-low voltage: 50 V AC rms, 120 V ripple-free DC.
+    assert (ELV_AC_V, ELV_DC_V) == (50.0, 120.0)
+    high = pr.open_circuit_line_rms_at_max_v > 50 or pr.open_circuit_dc_peak_at_max_v > 120
+    assert above_extra_low_voltage(pr) == high
+    assert insulation_test_v(pr) == (500 if high else 250)  # common practice
+    assert any(w.code == "voltage.above_elv" for w in design(demo).warnings) == high

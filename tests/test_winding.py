@@ -419,3 +419,20 @@ def test_factors_do_not_depend_on_where_numbering_starts(machine, data):
     turned_back = sorted(round((c.phasor_deg - turn) % 360, 6) % 360 for c in b.coils)
     original = sorted(round(c.phasor_deg % 360, 6) % 360 for c in a.coils)
     assert turned_back == pytest.approx(original, abs=1e-5)
+
+
+def test_terminal_markings_follow_iec_60034_8():
+    from layout.winding import terminal_markings, terminal_pair
+
+    # IEC 60034-8: phase windings U, V, W, each from 1 to 2.
+    assert terminal_markings(3) == ("U1", "U2", "V1", "V2", "W1", "W2")
+    assert terminal_markings(1) == ("U1", "U2")
+    assert terminal_pair("B") == ("V1", "V2")
+
+
+def test_electrical_frequency_is_pole_pairs_times_revolutions_per_second():
+    from layout.winding import electrical_hz
+
+    # f = P·rpm/120 with P magnets (Gieras, Wang & Kamper 2008): 16 magnets at 300 rpm → 40 Hz.
+    assert float(electrical_hz(8, 300)) == pytest.approx(16 * 300 / 120)
+    assert np.allclose(electrical_hz(5, [0, 60, 120]), [0, 5, 10])

@@ -186,3 +186,16 @@ def test_wheeler_scales_as_turns_squared():
     one = wheeler_inductance_h(40, 30.0, 8.0, 10.0)
     assert wheeler_inductance_h(80, 30.0, 8.0, 10.0) == pytest.approx(4 * one, rel=1e-12)
     assert wheeler_inductance_h(120, 30.0, 8.0, 10.0) == pytest.approx(9 * one, rel=1e-12)
+
+
+@pytest.mark.parametrize("strands", [1, 2, 4, 7])
+def test_bundle_grows_with_the_root_of_the_strands(strands):
+    from layout.wire import ENAMEL_DIAMETER_FACTOR, Wire, bundle_diameter_mm
+
+    # A bundle of n round strands packs into about √n strand diameters (common practice);
+    # its cross-section is n strands' worth whatever the packing.
+    w = Wire("1.00 mm", 1.0, strands)
+    d = bundle_diameter_mm(w)
+    assert d == pytest.approx(ENAMEL_DIAMETER_FACTOR * strands**0.5)
+    assert d**2 == pytest.approx(strands * bundle_diameter_mm(Wire("1.00 mm", 1.0, 1)) ** 2)
+    assert 1.04 <= ENAMEL_DIAMETER_FACTOR * 1.0 <= 1.12  # IEC 60317-0-1 grade 1–2 on 1 mm (from memory)
