@@ -8,7 +8,6 @@ the stationary steel plate, the assembly. Each `Item` carries the function that 
 
 from __future__ import annotations
 
-import json
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
@@ -138,9 +137,9 @@ def _plan_text(design: Design) -> str:
 
 
 def _plan_json(design: Design) -> str:
-    from fab.report import plan_json
+    from fab.report import plan_json, to_json
 
-    return json.dumps(plan_json(design), indent=2)
+    return to_json(plan_json(design))
 
 
 # Cautions every package carries, unless one of the design's warnings (codes) says it already.

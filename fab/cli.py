@@ -5,7 +5,7 @@ Every user error ends as one line on stderr and exit code 2, never a traceback.
 
 from __future__ import annotations
 
-import json
+import signal
 import sys
 from pathlib import Path
 
@@ -13,9 +13,33 @@ import click
 
 from fab import OutputError
 from layout.balance import MassListError
-from layout.spec import DesignError, load_spec
+from layout.spec import DesignError, read_text_input
 
 EXIT_USER_ERROR = 2
+
+
+class Stopped(BaseException):
+    """Ctrl-C or SIGTERM, raised wherever the program is, so that `build` removes its
+    half-written folder on the way out. Not a KeyboardInterrupt: click would turn that into
+    its own Abort and print a line of its own first."""
+
+    WORDS = {signal.SIGINT: "Interrupted", signal.SIGTERM: "Terminated"}
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+    @property
+    def exit_code(self) -> int:
+        return 128 + self.signum  # as shells report a process ended by a signal
+
+
+_RECEIVED: list[int] = []  # the signal that stopped us, once one has
+
+
+def _on_signal(signum, _frame):
+    _RECEIVED.append(signum)
+    raise Stopped(signum)
 
 
 class CountRange(click.ParamType):
@@ -76,12 +100,12 @@ def cli():
 @click.option("--json", "as_json", is_flag=True, help="print a JSON array for scripts")
 def pairs(phases, coils, magnets, sort, balanced_only, as_json):
     """Coil/magnet count combinations with winding factors, balance and notes."""
-    from fab.report import pairs_rows_json, pairs_text
+    from fab.report import pairs_rows_json, pairs_text, to_json
     from layout.pairs import combinations
 
     rows = combinations(coils, magnets, int(phases), balanced_only=balanced_only, sort=sort)
     if as_json:
-        click.echo(json.dumps(pairs_rows_json(rows), indent=2))
+        click.echo(to_json(pairs_rows_json(rows)))
     else:
         click.echo(pairs_text(rows, int(phases)))
 
@@ -91,12 +115,12 @@ def pairs(phases, coils, magnets, sort, balanced_only, as_json):
 @click.option("--json", "as_json", is_flag=True, help="print a JSON object for scripts")
 def plan(design, as_json):
     """Winding layout, predicted performance and warnings for one design."""
-    from fab.report import plan_json, plan_text
-    from layout.design import compute_design
+    from fab.fit import checked_design
+    from fab.report import plan_json, plan_text, to_json
 
-    d = compute_design(load_spec(design))
+    d = checked_design(design)
     if as_json:
-        click.echo(json.dumps(plan_json(d), indent=2))
+        click.echo(to_json(plan_json(d)))
     else:
         click.echo(plan_text(d))
 
@@ -143,26 +167,20 @@ def build(design, out):
 @click.option("--json", "as_json", is_flag=True, help="print a JSON object for scripts")
 def balance(design, masses_csv, grade, as_json):
     """Rotor unbalance against ISO 21940-11; where each weighed magnet goes."""
+    from fab.fit import checked_design
     from fab.massprops import disc_bodies
-    from fab.report import balance_json, balance_text
+    from fab.report import balance_json, balance_text, to_json
     from layout.balance import balance_rotor, read_masses
-    from layout.design import compute_design
 
-    d = compute_design(load_spec(design))
+    d = checked_design(design)
     masses = None
     if masses_csv is not None:
-        path = Path(masses_csv)
-        try:
-            text = path.read_text(encoding="utf-8")
-        except (OSError, UnicodeDecodeError) as exc:
-            raise click.UsageError(
-                f"{path.name}: cannot be read ({getattr(exc, 'strerror', None) or exc})"
-            ) from None
+        src, text = read_text_input(masses_csv, "a CSV list of magnet masses")
         n = d.spec.magnets.count * len({m.disc for m in d.geometry.magnets})
-        masses = read_masses(text, path.name, n)
+        masses = read_masses(text, src, n)
     rb = balance_rotor(d, disc_bodies(d), masses, grade)
     if as_json:
-        click.echo(json.dumps(balance_json(rb), indent=2))
+        click.echo(to_json(balance_json(rb)))
     else:
         click.echo(balance_text(rb, d.spec.name))
 
@@ -179,16 +197,21 @@ def balance(design, masses_csv, grade, as_json):
 @click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True)
 def sheet(design, out, paper):
     """The PDF build sheet alone: summary, magnet maps, winding checklist, wiring, curves."""
+    from fab.fit import checked_design
     from fab.massprops import disc_bodies
     from fab.sheet import write_sheet
     from layout.balance import balance_rotor
-    from layout.design import compute_design
 
-    d = compute_design(load_spec(design))
+    d = checked_design(design)
     target = Path(out) if out else Path("out") / d.spec.name / f"{d.spec.name}-sheet.pdf"
-    target.parent.mkdir(parents=True, exist_ok=True)
     rb = balance_rotor(d, disc_bodies(d), None)
-    written = write_sheet(d, target, paper=paper, balance=rb)
+    try:
+        target.parent.mkdir(parents=True, exist_ok=True)
+        written = write_sheet(d, target, paper=paper, balance=rb)
+    except OSError as exc:  # a full disk, a read-only folder; write_sheet leaves the old sheet
+        raise OutputError(
+            f"{target}: cannot be written ({exc.strerror or exc}); the old sheet is kept"
+        ) from None
     click.echo(f"written: {written}")
 
 
@@ -198,24 +221,41 @@ def main(argv: list[str] | None = None) -> None:
     if not args:
         click.echo(cli.get_help(click.Context(cli, info_name="statorsmith")))
         sys.exit(0)
+    before = {signum: signal.signal(signum, _on_signal) for signum in Stopped.WORDS}
+    _RECEIVED.clear()
     try:
         cli.main(args=args, prog_name="statorsmith", standalone_mode=False)
-    except (DesignError, OutputError, MassListError) as exc:
+    except BaseException as exc:  # noqa: BLE001 - each kind is mapped below, the rest re-raised
+        sys.exit(_exit_code(exc))
+    finally:
+        for signum, handler in before.items():  # as we found them, for callers in-process
+            signal.signal(signum, handler)
+
+
+def _exit_code(exc: BaseException) -> int:
+    """Print the one line an exception deserves and return the exit code; re-raise bugs."""
+    # A signal that lands inside a native import (the CAD kernel's) surfaces as an ImportError
+    # or worse; once a signal has come, whatever follows is that signal.
+    if isinstance(exc, Stopped) or _RECEIVED:
+        signum = exc.signum if isinstance(exc, Stopped) else _RECEIVED[0]
+        click.echo(f"{Stopped.WORDS[signum]}; nothing was changed.", err=True)
+        return 128 + signum
+    if isinstance(exc, DesignError | OutputError | MassListError):
         click.echo(f"Error: {exc}", err=True)
-        sys.exit(EXIT_USER_ERROR)
-    except KeyboardInterrupt:
+        return EXIT_USER_ERROR
+    if isinstance(exc, KeyboardInterrupt | click.exceptions.Abort):
         click.echo("Interrupted; nothing was changed.", err=True)
-        sys.exit(130)
-    except click.UsageError as exc:
+        return 128 + signal.SIGINT
+    if isinstance(exc, click.UsageError):
         click.echo(f"Error: {exc.format_message()}", err=True)
-        sys.exit(EXIT_USER_ERROR)
-    except click.exceptions.Abort:
-        click.echo("Aborted.", err=True)
-        sys.exit(1)
-    except click.exceptions.Exit as exc:
-        sys.exit(exc.exit_code)
-    except BrokenPipeError:
-        sys.exit(0)
+        return EXIT_USER_ERROR
+    if isinstance(exc, click.exceptions.Exit):
+        return exc.exit_code
+    if isinstance(exc, BrokenPipeError):
+        return 0
+    if isinstance(exc, SystemExit):
+        return exc.code if isinstance(exc.code, int) else 1
+    raise exc
 
 
 if __name__ == "__main__":

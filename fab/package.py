@@ -34,9 +34,8 @@ from pathlib import Path
 
 from fab import OutputError
 from fab.catalogue import Builder, Item, catalogue, safety_text, write_step, write_stl  # noqa: F401
-from fab.fit import check_parts
-from layout.design import Design, compute_design
-from layout.spec import load_spec
+from fab.fit import checked_design
+from layout.design import Design
 
 MANIFEST = "manifest.json"
 
@@ -85,13 +84,28 @@ def worker_main() -> None:
         result = ("oserror", f"cannot write {exc.filename or 'the package'}: {exc.strerror or exc}")
     except BaseException as exc:  # noqa: BLE001 - reported to the parent, which raises it
         result = ("error", f"{type(exc).__name__}: {exc}")
-    report.write(pickle.dumps(result))
-    report.close()
+    try:
+        report.write(pickle.dumps(result))
+        report.close()
+    except OSError:
+        pass  # the first process has gone (interrupted or killed): nobody is left to tell
+
+
+def _worker_code() -> str:
+    # Ctrl-C is the first process's to handle: it stops this one and removes the folder.
+    return (
+        "import signal; signal.signal(signal.SIGINT, signal.SIG_IGN); "
+        "from fab.package import worker_main; worker_main()"
+    )
 
 
 def _start_worker() -> subprocess.Popen:
-    code = "from fab.package import worker_main; worker_main()"
-    return subprocess.Popen([sys.executable, "-c", code], stdin=subprocess.PIPE, stdout=subprocess.PIPE)
+    return subprocess.Popen(
+        [sys.executable, "-c", _worker_code()],
+        stdin=subprocess.PIPE,
+        stdout=subprocess.PIPE,
+        start_new_session=True,  # out of the terminal's process group: Ctrl-C reaches only us
+    )
 
 
 def _send(proc: subprocess.Popen, job) -> None:
@@ -144,11 +158,60 @@ def _check_target(target: Path, names: set[str]) -> None:
         )
 
 
+def _tmp_prefix(target: Path) -> str:
+    return f".{target.name}.tmp-"
+
+
+def _old_prefix(target: Path) -> str:
+    return f".{target.name}.old-"
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True  # someone else's process: leave its folder alone
+    return True
+
+
+def recover(target: Path) -> list[str]:
+    """Finish or undo what an interrupted build left beside `target`; what was done, in words.
+
+    A build folder (`.NAME.tmp-PID-…`) whose process is gone is removed. A previous package
+    moved aside (`.NAME.old-…`) goes back in place if nothing is at the target (the build
+    stopped between its two renames), and is removed once a newer package is there.
+    """
+    done = []
+    parent = target.parent
+    if not parent.is_dir():
+        return done
+    for p in sorted(parent.iterdir()):
+        if p.name.startswith(_tmp_prefix(target)) and p.is_dir():
+            pid = p.name[len(_tmp_prefix(target)) :].split("-", 1)[0]
+            if not (pid.isdigit() and _alive(int(pid))):
+                shutil.rmtree(p, ignore_errors=True)
+                done.append(f"removed {p.name}, left by an interrupted build")
+    olds = sorted(
+        (p for p in parent.iterdir() if p.name.startswith(_old_prefix(target)) and p.is_dir()),
+        key=lambda p: p.stat().st_mtime,
+    )
+    for p in olds:
+        if not target.exists():
+            os.rename(p, target)
+            done.append(f"put back the previous package from {p.name}")
+        else:
+            shutil.rmtree(p, ignore_errors=True)
+            done.append(f"removed {p.name}, a package already replaced")
+    return done
+
+
 def install(tmp: Path, target: Path) -> None:
     """Put the finished folder in place; the old package goes only once the new one is there."""
     old = None
     if target.exists():
-        old = target.parent / f".{target.name}.old-{secrets.token_hex(4)}"
+        old = target.parent / f"{_old_prefix(target)}{secrets.token_hex(4)}"
         os.rename(target, old)
     try:
         os.rename(tmp, target)
@@ -180,11 +243,11 @@ def build_package(
     proc = _start_worker() if parallel else None
     tmp = None
     try:
-        say("computing the design")
-        design = compute_design(load_spec(design_path))
-        say("checking the parts")
-        check_parts(design)
+        say("computing the design and checking the parts")
+        design = checked_design(design_path)
         target = Path(out) if out is not None else Path("out") / design.spec.name
+        for step in recover(target):
+            say(step)
         items = catalogue(design)
         _check_target(target, {i.file for i in items} | set(_late_names(design)))
         tmp = _make_tmp(target)
@@ -237,14 +300,14 @@ def _disc_bodies_from(design: Design, infos: dict):
 def _write_balance_and_sheet(design: Design, items: list[Item], infos: dict, tmp: Path) -> list[Item]:
     """Balance plan (nominal magnets; weighed ones via `statorsmith balance --masses`) and
     the build sheet, which need the discs' solids and the list of files."""
-    from fab.report import balance_json, balance_text
+    from fab.report import balance_json, balance_text, to_json
     from fab.sheet import write_sheet
     from layout.balance import balance_rotor
 
     rb = balance_rotor(design, _disc_bodies_from(design, infos), None)
     txt, js, pdf = _late_names(design)
     (tmp / txt).write_text(balance_text(rb, design.spec.name) + "\n", encoding="utf-8")
-    (tmp / js).write_text(json.dumps(balance_json(rb), indent=2) + "\n", encoding="utf-8")
+    (tmp / js).write_text(to_json(balance_json(rb)) + "\n", encoding="utf-8")
     files = [(i.file, i.what, i.how) for i in items]
     files += [
         (txt, "rotor balance: ISO 21940-11 check, placement, bench procedure", "read"),
@@ -281,7 +344,7 @@ def _make_tmp(target: Path) -> Path:
     """The folder to build in, beside the target, with ordinary permissions."""
     try:
         target.parent.mkdir(parents=True, exist_ok=True)
-        tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.tmp-", dir=target.parent))
+        tmp = Path(tempfile.mkdtemp(prefix=f"{_tmp_prefix(target)}{os.getpid()}-", dir=target.parent))
     except OSError as exc:
         raise OutputError(f"{target.parent}: cannot write here ({exc.strerror or exc})") from None
     umask = os.umask(0)
@@ -339,4 +402,6 @@ def _write_manifest(design: Design, items: list[Item], infos: dict, tmp: Path, d
         "warnings": [{"code": w.code, "severity": w.severity} for w in design.warnings],
         "files": files,
     }
-    (tmp / MANIFEST).write_text(json.dumps(manifest, indent=2) + "\n", encoding="utf-8")
+    from fab.report import to_json
+
+    (tmp / MANIFEST).write_text(to_json(manifest) + "\n", encoding="utf-8")

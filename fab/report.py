@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import json
+import math
 from collections.abc import Sequence
 
 from layout.design import Design
@@ -134,7 +136,15 @@ def layout_json(design: Design) -> dict:
 
 
 def _r(x, n=4):
-    return None if x is None else round(float(x), n)
+    """A figure rounded for JSON; None (null) where it is missing or not a finite number."""
+    if x is None or not math.isfinite(float(x)):
+        return None
+    return round(float(x), n)
+
+
+def to_json(obj) -> str:
+    """Strict JSON for scripts: a NaN or an infinity is a bug here, never a token in the output."""
+    return json.dumps(obj, indent=2, allow_nan=False)
 
 
 def electrical_json(design: Design) -> dict:

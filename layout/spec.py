@@ -11,6 +11,7 @@ from __future__ import annotations
 import dataclasses
 import json
 import math
+import stat
 import tomllib
 import types
 import typing
@@ -29,16 +30,29 @@ class DesignError(ValueError):
         super().__init__(f"{where}: {allowed}")
 
 
-def _show(value: object) -> str:
+_SHOWN_CHARS = 60  # a value in an error message is cut here, so the message stays one line
+
+
+def _show(value: object, depth: int = 0) -> str:
+    """A value as the design file would spell it, short, on one line, whatever its size."""
+    if depth > 2:
+        return "…"
     if value is None:
         return "(not given)"
     if isinstance(value, str):
-        return json.dumps(value, ensure_ascii=False)  # escapes newlines: one line always
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, list | tuple):
-        return "[" + ", ".join(_show(v) for v in value) + "]"
-    return str(value)
+        text = json.dumps(value, ensure_ascii=False)  # escapes newlines: one line always
+    elif isinstance(value, bool):
+        text = "true" if value else "false"
+    elif isinstance(value, int) and abs(value) > 10**30:
+        text = f"(a whole number of {len(str(abs(value)))} digits)"
+    elif isinstance(value, list | tuple):
+        items = [_show(v, depth + 1) for v in value[:8]]
+        text = "[" + ", ".join(items + (["…"] if len(value) > 8 else [])) + "]"
+    elif isinstance(value, dict):
+        text = "{" + ", ".join(f"{k} = {_show(v, depth + 1)}" for k, v in list(value.items())[:4]) + "}"
+    else:
+        text = str(value)
+    return text if len(text) <= _SHOWN_CHARS else text[: _SHOWN_CHARS - 1] + "…"
 
 
 def rule(
@@ -64,35 +78,35 @@ def rule(
 class StatorSpec:
     phases: int = rule(ge=1, le=3, why="1 (single phase) or 3 (three phase)")
     coil_positions: int = rule(ge=2, le=96)
-    thickness_mm: float = rule(gt=0, le=80)
+    thickness_mm: float = rule(ge=2, le=80, why="a cast stator thinner than 2 mm holds no winding")
     empty_positions: tuple[int, ...] = rule(())
     coil_clearance_mm: float = rule(1.5, ge=0, le=20)
     resin_cover_mm: float = rule(0.5, ge=0, le=10)
-    hole_radial_mm: float | None = rule(None, gt=0)
-    hole_tangential_mm: float | None = rule(None, gt=0)
-    leg_width_mm: float | None = rule(None, gt=0)
+    hole_radial_mm: float | None = rule(None, ge=1, le=1000)
+    hole_tangential_mm: float | None = rule(None, ge=1, le=1000)
+    leg_width_mm: float | None = rule(None, ge=1, le=500)
     hole_margin_mm: float = rule(1.0, ge=0, le=20)
     binder: str = rule("epoxy", choices=STATOR_BINDERS_MAX_C)
     fill_factor: float = rule(0.5, gt=0.1, le=0.75, why="hand-wound round wire fills 0.4–0.6")
     wire_standard: str = rule("awg", choices=("awg", "metric"))
     max_wire_diameter_mm: float = rule(1.6, gt=0.1, le=5)
-    mould_wall_mm: float = rule(10.0, gt=0, le=100)
-    resin_rim_mm: float = rule(8.0, gt=0, le=100)
+    mould_wall_mm: float = rule(10.0, ge=1, le=100)
+    resin_rim_mm: float = rule(8.0, ge=1, le=100)
     mounting_lugs: int = rule(4, ge=3, le=24)
-    mounting_hole_diameter_mm: float = rule(11.0, gt=0, le=60)
+    mounting_hole_diameter_mm: float = rule(11.0, ge=2, le=60)
 
 
 @dataclass(frozen=True)
 class MagnetSpec:
     count: int = rule(ge=2, le=200, even=True, why="must be even (magnets alternate N/S)")
     shape: str = rule(choices=("block", "disc"))
-    thickness_mm: float = rule(gt=0, le=100)
-    pitch_radius_mm: float = rule(gt=0, le=2000)
-    length_mm: float | None = rule(None, gt=0, le=500)
-    width_mm: float | None = rule(None, gt=0, le=500)
-    diameter_mm: float | None = rule(None, gt=0, le=500)
+    thickness_mm: float = rule(ge=0.5, le=100)
+    pitch_radius_mm: float = rule(ge=5, le=2000)
+    length_mm: float | None = rule(None, ge=1, le=500)
+    width_mm: float | None = rule(None, ge=1, le=500)
+    diameter_mm: float | None = rule(None, ge=1, le=500)
     grade: str | None = rule(None, choices=MAGNET_GRADES)
-    remanence_t: float | None = rule(None, gt=0, le=1.6)
+    remanence_t: float | None = rule(None, ge=0.1, le=1.6, why="hard ferrite about 0.4 T, NdFeB 1.2–1.5 T")
     max_temperature_c: float | None = rule(None, gt=20, le=350)
     mass_tolerance_pct: float = rule(1.0, ge=0, le=20)
 
@@ -101,21 +115,23 @@ class MagnetSpec:
 class RotorSpec:
     topology: str = rule(choices=("two_discs", "one_disc_steel_stator", "one_disc_coreless"))
     disc_material: str = rule(choices=DISC_MATERIALS)
-    disc_thickness_mm: float = rule(gt=0, le=100)
-    running_clearance_mm: float = rule(gt=0, le=50)
-    bore_diameter_mm: float = rule(25.0, gt=0, le=1000)
-    disc_outer_diameter_mm: float | None = rule(None, gt=0, le=4000)
-    stator_plate_thickness_mm: float | None = rule(None, gt=0, le=100)
-    hub_bolt_circle_mm: float | None = rule(None, gt=0, le=2000)
+    disc_thickness_mm: float = rule(ge=0.5, le=100)
+    running_clearance_mm: float = rule(
+        ge=0.2, le=50, why="a disc that flexes or runs out rubs below a few tenths; 1–3 mm is usual"
+    )
+    bore_diameter_mm: float = rule(25.0, ge=3, le=1000)
+    disc_outer_diameter_mm: float | None = rule(None, ge=10, le=4000)
+    stator_plate_thickness_mm: float | None = rule(None, ge=0.5, le=100)
+    hub_bolt_circle_mm: float | None = rule(None, ge=5, le=2000)
     hub_bolts: int = rule(4, ge=3, le=16)
-    hub_hole_diameter_mm: float = rule(9.0, gt=0, le=100)
-    dowel_diameter_mm: float = rule(6.0, gt=0, le=50)
+    hub_hole_diameter_mm: float = rule(9.0, ge=1, le=100)
+    dowel_diameter_mm: float = rule(6.0, ge=1, le=50)
     pocket_clearance_mm: float | None = rule(None, ge=0, le=3)
-    pocket_depth_mm: float | None = rule(None, gt=0, le=100)
+    pocket_depth_mm: float | None = rule(None, ge=0.2, le=100)
     min_web_mm: float = rule(3.0, ge=0.5, le=50)
     jacking_screw: str = rule("M10", choices=METRIC_THREADS)
     jacking_screws: int = rule(3, ge=3, le=12, why="three or more hold the disc level")
-    jacking_circle_mm: float | None = rule(None, gt=0, le=2000)
+    jacking_circle_mm: float | None = rule(None, ge=5, le=2000)
 
 
 @dataclass(frozen=True)
@@ -127,13 +143,15 @@ class ConnectionSpec:
 @dataclass(frozen=True)
 class TargetSpec:
     kind: str = rule(choices=("battery", "dc", "ac_line"))
-    rated_rpm: float = rule(gt=0, le=20000)
-    max_rpm: float = rule(gt=0, le=20000)
-    battery_v: float | None = rule(None, gt=0, le=1000)
-    cut_in_rpm: float | None = rule(None, gt=0, le=20000)
-    battery_resistance_ohm: float = rule(0.05, gt=0, le=100)
-    voltage_v: float | None = rule(None, gt=0, le=10000)
-    rated_current_a: float | None = rule(None, gt=0, le=1000)
+    rated_rpm: float = rule(ge=1, le=20000)
+    max_rpm: float = rule(ge=1, le=20000)
+    battery_v: float | None = rule(None, ge=1, le=1000)
+    cut_in_rpm: float | None = rule(None, ge=1, le=20000)
+    battery_resistance_ohm: float = rule(0.05, ge=0.001, le=100)
+    voltage_v: float | None = rule(None, ge=1, le=10000)
+    rated_current_a: float | None = rule(
+        None, ge=0.05, le=1000, why="below 50 mA the losses of the machine swamp its output"
+    )
     diode_drop_v: float = rule(0.9, ge=0, le=3, why="silicon 0.7–1.0 V, Schottky 0.3–0.5 V")
     ambient_c: float = rule(25.0, ge=-40, le=60)
 
@@ -141,10 +159,10 @@ class TargetSpec:
 @dataclass(frozen=True)
 class FabSpec:
     kerf_mm: float = rule(0.0, ge=0, le=5)
-    winder_hole_diameter_mm: float = rule(8.5, gt=0, le=50)
-    jig_cheek_thickness_mm: float = rule(6.0, gt=0, le=50)
-    template_thickness_mm: float | None = rule(None, gt=0, le=50)
-    print_bed_mm: float = rule(250.0, gt=0, le=2000)
+    winder_hole_diameter_mm: float = rule(8.5, ge=1, le=50)
+    jig_cheek_thickness_mm: float = rule(6.0, ge=1, le=50)
+    template_thickness_mm: float | None = rule(None, ge=0.5, le=50)
+    print_bed_mm: float = rule(250.0, ge=20, le=2000)
     stl_tolerance_mm: float = rule(0.05, ge=0.005, le=1)
 
 
@@ -206,6 +224,8 @@ def _read_value(src: str, key: str, value: object, f: dataclasses.Field):
         return value
     if isinstance(value, bool) or not isinstance(value, int | float):
         raise DesignError(src, key, value, "must be a number")
+    if isinstance(value, int) and abs(value) > 10**15:
+        raise DesignError(src, key, value, "is far too large for a number of this design")
     if kind is int and not (isinstance(value, int) or float(value).is_integer()):
         raise DesignError(src, key, value, "must be a whole number")
     number = int(value) if kind is int else float(value)
@@ -277,7 +297,13 @@ def parse_spec(data: dict, source: str) -> Spec:
 def _check_consistency(spec: Spec) -> None:
     """Rules that tie several keys together."""
     st, mg, ro, co, ta = spec.stator, spec.magnets, spec.rotor, spec.connection, spec.target
-    if not spec.name.replace("-", "").replace("_", "").isalnum():
+    if len(spec.name) > MAX_NAME_CHARS:
+        raise spec.fail(
+            "name", spec.name, f"at most {MAX_NAME_CHARS} characters (it names the package's files)"
+        )
+    if not spec.name.replace("-", "").replace("_", "").isascii() or not (
+        spec.name.replace("-", "").replace("_", "").isalnum()
+    ):
         raise spec.fail("name", spec.name, "use letters, digits, - and _ only (it names files)")
     if st.phases == 2:
         raise spec.fail("stator.phases", 2, "must be 1 (single phase) or 3 (three phase)")
@@ -410,26 +436,62 @@ def magnet_tangential_extent_mm(mg: MagnetSpec) -> float:
     return mg.width_mm if mg.shape == "block" else mg.diameter_mm
 
 
-def load_spec(path: str | Path) -> Spec:
-    """Read and validate a design file. Every failure is a DesignError with one line."""
+MAX_INPUT_BYTES = 1 << 20  # a design or requirement file is a few kB; refuse anything past 1 MiB
+MAX_NAME_CHARS = 64  # `name` names the package folder and its files
+
+
+def printable_name(name: str) -> str:
+    """A file name as one printable line: control characters (newlines) shown escaped."""
+    return "".join(c if c.isprintable() else c.encode("unicode_escape").decode() for c in name)
+
+
+def read_text_input(path: str | Path, what: str) -> tuple[str, str]:
+    """(source name, text) of a small regular UTF-8 file; DesignError with one line otherwise.
+
+    Only regular files are opened, so a FIFO or a device such as /dev/zero cannot block or
+    stream without end; the size is checked before reading. A UTF-8 byte-order mark, as
+    spreadsheets and some editors write, is dropped.
+    """
     p = Path(path)
-    src = p.name
+    src = printable_name(p.name or str(p))
     try:
-        raw = p.read_bytes()
+        st = p.stat()
     except FileNotFoundError:
-        raise DesignError(src, None, None, f"no such file ({p})") from None
-    except IsADirectoryError:
-        raise DesignError(src, None, None, "is a folder, not a design file") from None
+        raise DesignError(src, None, None, f"no such file ({printable_name(str(p))})") from None
     except OSError as exc:
         raise DesignError(src, None, None, f"cannot be read ({exc.strerror})") from None
+    if stat.S_ISDIR(st.st_mode):
+        raise DesignError(src, None, None, f"is a folder, not {what}")
+    if not stat.S_ISREG(st.st_mode):
+        raise DesignError(src, None, None, f"is not a regular file (a pipe or a device?); give {what}")
+    if st.st_size > MAX_INPUT_BYTES:
+        raise DesignError(src, None, None, f"is {st.st_size} bytes; {what} is at most {MAX_INPUT_BYTES}")
     try:
-        text = raw.decode("utf-8")
+        with open(p, "rb") as f:
+            raw = f.read(MAX_INPUT_BYTES + 1)
+    except OSError as exc:
+        raise DesignError(src, None, None, f"cannot be read ({exc.strerror})") from None
+    if len(raw) > MAX_INPUT_BYTES:
+        raise DesignError(src, None, None, f"is larger than {MAX_INPUT_BYTES} bytes; give {what}")
+    try:
+        return src, raw.decode("utf-8-sig")
     except UnicodeDecodeError:
-        raise DesignError(src, None, None, "is not UTF-8 text (a TOML design file)") from None
+        raise DesignError(src, None, None, f"is not UTF-8 text ({what})") from None
+
+
+def load_spec(path: str | Path) -> Spec:
+    """Read and validate a design file. Every failure is a DesignError with one line."""
+    src, text = read_text_input(path, "a TOML design file")
     if not text.strip():
         raise DesignError(src, None, None, "is empty; a design needs name, purpose and its tables")
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise DesignError(src, None, None, f"is not valid TOML: {exc}") from None
+        raise DesignError(src, None, None, f"is not valid TOML: {printable_name(str(exc))}") from None
+    except RecursionError:
+        raise DesignError(src, None, None, "is not a design: arrays or tables nested too deep") from None
+    except ValueError:  # an integer of thousands of digits (int max_str_digits)
+        raise DesignError(
+            src, None, None, "is not a design: a number in it has thousands of digits"
+        ) from None
     return parse_spec(data, src)

@@ -377,3 +377,55 @@ def test_sheet_writes_a_pdf(tmp_path):
     )
     assert res.returncode == 0, res.stderr
     assert out.read_bytes().startswith(b"%PDF")
+
+
+# Geometry that only the parts' fit checks catch: plan, balance and sheet refuse it as build does.
+UNBUILDABLE = [
+    ("disc smaller than its magnet ring", "bore_diameter_mm = 20.0",
+     "bore_diameter_mm = 20.0\ndisc_outer_diameter_mm = 100.0", "rotor.disc_outer_diameter_mm"),
+]  # fmt: skip
+
+
+@pytest.mark.parametrize("command", ["plan", "balance", "sheet"])
+@pytest.mark.parametrize(("old", "new", "key"), [u[1:] for u in UNBUILDABLE], ids=[u[0] for u in UNBUILDABLE])
+def test_every_command_refuses_what_build_refuses(run, tmp_path, command, old, new, key):
+    from fab.package import build_package
+    from layout.spec import DesignError
+
+    path = tmp_path / BAD_NAME
+    path.write_text(edited("pedalbox", old, new), encoding="utf-8")
+    with pytest.raises(DesignError, match=key):
+        build_package(path, tmp_path / "pkg")
+    args = [command, path] + (["--out", tmp_path / "s.pdf"] if command == "sheet" else [])
+    assert key in assert_user_error(run(*args))
+    assert not (tmp_path / "s.pdf").exists()
+
+
+def test_plan_json_is_strict(ok):
+    # allow_nan=False would raise on a NaN; the parser refuses the tokens in case one slipped by.
+    def refuse(token):
+        raise ValueError(f"non-standard JSON token {token}")
+
+    for demo in DEMOS:
+        json.loads(ok("plan", DESIGNS / f"{demo}.toml", "--json"), parse_constant=refuse)
+
+
+def test_to_json_refuses_nan():
+    from fab.report import _r, to_json
+
+    assert _r(float("nan")) is None and _r(float("inf")) is None
+    with pytest.raises(ValueError):
+        to_json({"x": float("nan")})
+
+
+def test_sheet_on_a_full_disk_is_one_line(run, tmp_path, monkeypatch):
+    import errno
+
+    import fab.sheet
+
+    def full(*_a, **_k):
+        raise OSError(errno.ENOSPC, "No space left on device")
+
+    monkeypatch.setattr(fab.sheet, "write_sheet", full)
+    message = assert_user_error(run("sheet", DESIGNS / "pedalbox.toml", "--out", tmp_path / "s.pdf"))
+    assert "No space left on device" in message

@@ -5,7 +5,12 @@ from __future__ import annotations
 import hashlib
 import io
 import json
+import os
+import signal
+import subprocess
+import sys
 import tempfile
+import time
 from pathlib import Path
 
 import ezdxf
@@ -288,3 +293,57 @@ def test_progress_on_a_terminal(tmp_path, monkeypatch, capsys):
     # Each step named on its own line, then the one-line error.
     assert lines[:2] == ["  computing the design", "  checking the parts"]
     assert lines[-1].startswith("Error: creek.toml: stator.resin_rim_mm = 40.0: ")
+
+
+PEDALBOX = REPO / "designs" / "pedalbox.toml"
+
+
+@pytest.mark.parametrize(
+    ("signum", "code", "words"), [(signal.SIGINT, 130, "Interrupted"), (signal.SIGTERM, 143, "Terminated")]
+)
+def test_an_interrupted_build_leaves_the_old_package_and_one_line(tmp_path, signum, code, words):
+    folder = tmp_path / "pedalbox"
+    before = old_package(folder)
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "fab.cli", "build", PEDALBOX, "--out", folder],
+        cwd=REPO,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
+    deadline = time.monotonic() + 60
+    while not any(p.name.startswith(".pedalbox.tmp-") for p in tmp_path.iterdir()):
+        assert proc.poll() is None and time.monotonic() < deadline, "the build never started writing"
+        time.sleep(0.05)
+    time.sleep(0.5)  # mid-build: the drawings are being written, the CAD kernel loading
+    proc.send_signal(signum)
+    out, err = proc.communicate(timeout=60)
+    assert proc.returncode == code, err
+    assert err == f"{words}; nothing was changed.\n" and out == ""
+    time.sleep(0.5)  # the second process, told to stop, is gone too
+    unchanged(folder, before)
+
+
+def test_the_next_build_cleans_up_after_a_killed_one(tmp_path):
+    folder = tmp_path / "pkg"
+    before = old_package(folder)
+    dead = subprocess.run(
+        [sys.executable, "-c", "import os; print(os.getpid())"], capture_output=True, text=True
+    )
+    stale = tmp_path / f".pkg.tmp-{int(dead.stdout)}-abcd1234"  # its process has ended
+    stale.mkdir()
+    (stale / "plan.txt").write_text("half a build\n", encoding="utf-8")
+    mine = tmp_path / f".pkg.tmp-{os.getpid()}-live0000"  # a build still running: left alone
+    mine.mkdir()
+    assert pkg.recover(folder) == [f"removed {stale.name}, left by an interrupted build"]
+    assert not stale.exists() and mine.exists()
+    mine.rmdir()
+    # Killed between the two renames: the old package aside, nothing at the target.
+    aside = tmp_path / ".pkg.old-0badf00d"
+    os.rename(folder, aside)
+    assert pkg.recover(folder) == [f"put back the previous package from {aside.name}"]
+    unchanged(folder, before)
+    # Killed after the second rename: the new package in place, the old one still aside.
+    aside.mkdir()
+    assert pkg.recover(folder) == [f"removed {aside.name}, a package already replaced"]
+    unchanged(folder, before)

@@ -105,7 +105,7 @@ BAD_EDITS = [
     ("two hub bolts", "millrace", "bore_diameter_mm = 35.0", "bore_diameter_mm = 35.0\nhub_bolts = 2",
      "rotor.hub_bolts", "2", "at least 3"),
     ("hub hole of no size", "millrace", "bore_diameter_mm = 35.0",
-     "bore_diameter_mm = 35.0\nhub_hole_diameter_mm = 0", "rotor.hub_hole_diameter_mm", "0", "more than 0"),
+     "bore_diameter_mm = 35.0\nhub_hole_diameter_mm = 0", "rotor.hub_hole_diameter_mm", "0", "at least 1"),
     ("unknown jacking screw", "millrace", "bore_diameter_mm = 35.0",
      'bore_diameter_mm = 35.0\njacking_screw = "M9"', "rotor.jacking_screw", '"M9"', "must be one of M5, M6"),
     ("two jacking screws", "millrace", "bore_diameter_mm = 35.0",
@@ -114,7 +114,7 @@ BAD_EDITS = [
     ("two mounting lugs", "millrace", "coil_clearance_mm = 1.5", "coil_clearance_mm = 1.5\nmounting_lugs = 2",
      "stator.mounting_lugs", "2", "at least 3"),
     ("no resin rim", "millrace", "coil_clearance_mm = 1.5", "coil_clearance_mm = 1.5\nresin_rim_mm = 0",
-     "stator.resin_rim_mm", "0", "more than 0"),
+     "stator.resin_rim_mm", "0", "at least 1"),
     ("negative kerf", "millrace", "diode_drop_v = 0.9", "diode_drop_v = 0.9\n\n[fab]\nkerf_mm = -0.1",
      "fab.kerf_mm", "-0.1", "at least 0"),
     ("unknown key in [fab]", "millrace", "diode_drop_v = 0.9", "diode_drop_v = 0.9\n\n[fab]\nkerf = 0.1",
@@ -211,3 +211,85 @@ def test_value_with_a_newline_still_gives_one_line(tmp_path):
     path = tmp_path / BAD_NAME
     path.write_text(edited("millrace", 'binder = "epoxy"', 'binder = "ep\\noxy"'), "utf-8")
     one_line_error(path)
+
+
+HEAD = b'name = "x"\npurpose = "y"\nz = '
+HOSTILE = [
+    # (id, file contents, words of the reason)
+    ("arrays nested a thousand deep", HEAD + b"[" * 1200 + b"]" * 1200, "nested"),
+    ("inline tables nested a thousand deep", HEAD + b"{a = " * 1200 + b"1" + b"}" * 1200, "nested"),
+    ("a five-thousand-digit integer", HEAD + b"9" * 5000, "thousands of digits"),
+]
+
+
+@pytest.mark.parametrize(("contents", "reason"), [h[1:] for h in HOSTILE], ids=[h[0] for h in HOSTILE])
+def test_hostile_toml_is_one_line(tmp_path, contents, reason):
+    path = tmp_path / BAD_NAME
+    path.write_bytes(contents)
+    assert reason in one_line_error(path)
+
+
+def test_integer_hundreds_of_digits_long_is_one_short_line(tmp_path):
+    path = tmp_path / BAD_NAME
+    path.write_text(edited("millrace", "count = 16", "count = " + "9" * 400), encoding="utf-8")
+    message = one_line_error(path)
+    assert message.startswith(f"{BAD_NAME}: magnets.count = (a whole number of 400 digits)")
+    assert len(message) < 200
+
+
+def test_byte_order_mark_is_accepted(tmp_path):
+    # Spreadsheets and some Windows editors start UTF-8 files with EF BB BF.
+    path = tmp_path / "millrace.toml"
+    path.write_bytes(b"\xef\xbb\xbf" + demo_text("millrace").encode("utf-8"))
+    assert load_spec(path).name == "millrace"
+
+
+def test_only_regular_files_are_read(tmp_path):
+    import os
+
+    fifo = tmp_path / "pipe.toml"
+    os.mkfifo(fifo)
+    assert "not a regular file" in one_line_error(fifo)  # would block for ever if opened
+    with pytest.raises(DesignError, match="not a regular file"):
+        load_spec("/dev/zero")  # would read without end
+
+
+def test_oversized_file_is_refused_before_reading(tmp_path):
+    from layout.spec import MAX_INPUT_BYTES
+
+    path = tmp_path / BAD_NAME
+    path.write_bytes(b"#" * (MAX_INPUT_BYTES + 1))
+    assert "at most" in one_line_error(path)
+
+
+def test_file_name_with_a_newline_gives_one_line(tmp_path):
+    path = tmp_path / "two\nlines.toml"
+    path.write_text(edited("millrace", "count = 16", "count = 15"), encoding="utf-8")
+    with pytest.raises(DesignError) as info:
+        load_spec(path)
+    assert "\n" not in str(info.value) and str(info.value).startswith("two\\nlines.toml: ")
+
+
+def test_long_name_is_refused_up_front(tmp_path):
+    from layout.spec import MAX_NAME_CHARS
+
+    path = tmp_path / BAD_NAME
+    path.write_text(edited("millrace", 'name = "millrace"', f'name = "{"a" * 300}"'), encoding="utf-8")
+    message = one_line_error(path)
+    assert f"at most {MAX_NAME_CHARS} characters" in message and len(message) < 200
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "key"),
+    [
+        # Values at which the model means nothing: refused by range, not computed.
+        ("rated_current_a = 3.0", "rated_current_a = 1e-12", "target.rated_current_a"),
+        ("running_clearance_mm = 1.5", "running_clearance_mm = 1e-6", "rotor.running_clearance_mm"),
+        ("running_clearance_mm = 1.5", "running_clearance_mm = 1.7e308", "rotor.running_clearance_mm"),
+        ("disc_thickness_mm = 8.0", "disc_thickness_mm = 1e-7", "rotor.disc_thickness_mm"),
+    ],
+)
+def test_values_where_the_model_means_nothing_are_refused(tmp_path, old, new, key):
+    path = tmp_path / BAD_NAME
+    path.write_text(edited("pedalbox", old, new), encoding="utf-8")
+    assert one_line_error(path).startswith(f"{BAD_NAME}: {key} = ")
