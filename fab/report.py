@@ -8,6 +8,7 @@ from collections.abc import Sequence
 
 from layout.design import Design
 from layout.forces import STEEL_B_LIMIT_T, G
+from layout.model import TEMPERATURE_CAP_C
 from layout.pairs import Pair
 
 
@@ -183,7 +184,8 @@ def electrical_json(design: Design) -> dict:
         "rated_dc_power_w": _r(rated.dc_power_w, 2),
         "efficiency": _r(rated.efficiency),
         "rated_current_density_a_mm2": _r(rated.current_density_a_mm2, 3),
-        "rated_coil_temperature_c": _r(rated.coil_temperature_c, 1),
+        "rated_coil_temperature_c": None if rated.temperature_over_cap else _r(rated.coil_temperature_c, 1),
+        "coil_temperature_cap_c": TEMPERATURE_CAP_C,
         "curve": [
             {
                 "rpm": _r(op.rpm, 2),
@@ -195,7 +197,8 @@ def electrical_json(design: Design) -> dict:
                 "rectifier_loss_w": _r(op.rectifier_loss_w, 3),
                 "phase_current_rms_a": _r(op.phase_current_rms_a, 4),
                 "current_density_a_mm2": _r(op.current_density_a_mm2, 3),
-                "coil_temperature_c": _r(op.coil_temperature_c, 1),
+                # null where the steady state lies past the cap: no figure is claimed there
+                "coil_temperature_c": None if op.temperature_over_cap else _r(op.coil_temperature_c, 1),
                 "open_circuit_line_rms_v": _r(op.open_circuit_line_rms_v, 3),
             }
             for op in pr.curve
@@ -376,11 +379,17 @@ def _output_text(design: Design) -> str:
             op.rectifier_loss_w,
             op.efficiency,
             op.current_density_a_mm2,
-            int(round(op.coil_temperature_c)),
+            f">{TEMPERATURE_CAP_C:g}" if op.temperature_over_cap else int(round(op.coil_temperature_c)),
         ]
         for op in pr.curve
     ]
-    return "\n".join(head) + "\n" + table(headings, rows)
+    note = ""
+    if any(op.temperature_over_cap for op in pr.curve):
+        note = (
+            f"\ncoil_c >{TEMPERATURE_CAP_C:g}: the coils would pass every enamel's rating there; "
+            "the estimate means nothing past it, and the currents shown assume the cap."
+        )
+    return "\n".join(head) + "\n" + table(headings, rows) + note
 
 
 def _magnetics_text(design: Design) -> str:

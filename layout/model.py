@@ -14,6 +14,7 @@ import numpy as np
 from layout.circuit import BridgeRating, Load, bridge_rating, simulate_rectifier
 from layout.emf import PhaseEmf, rms, thd
 from layout.geometry import Geometry
+from layout.materials import COPPER_DENSITY_G_CM3
 from layout.spec import Spec
 from layout.winding import Layout, electrical_hz
 from layout.wire import (
@@ -28,6 +29,65 @@ from layout.wire import (
 # coefficient of about 20 W/(m²·K) is a rough figure for that (from memory); the estimate
 # is meant to flag trouble, not to replace a temperature test.
 FACE_HEAT_TRANSFER_W_M2K = 20.0
+# Above the highest thermal class of enamelled wire (220 °C, IEC 60085) the insulation, the
+# binder and this steady-state estimate have all failed; no temperature is claimed past it.
+TEMPERATURE_CAP_C = 250.0
+TEMPERATURE_TOL_K = 0.05  # the coil temperature and its resistance agree to this
+
+
+def settle_temperature(loss_w, ambient_c: float, conductance_w_k: float, n: int):
+    """Coil temperatures (°C) where the copper loss at each point's own resistance is the heat
+    that raises it there: T = T_amb + P(T)/G, solved per operating point.
+
+    `loss_w(index, temps_c)` gives the copper loss (W) of the points `index` with the coils at
+    `temps_c`. The root is bracketed in [T_amb, TEMPERATURE_CAP_C] and found by regula falsi
+    with the Illinois modification (Dowell & Jarratt, BIT 11, 1971), which keeps a bracket and
+    so cannot oscillate as plain substitution does when the loss rises steeply with R.
+    Returns (temps_c, over_cap): points whose root lies above the cap are held at the cap.
+    """
+    f_of = lambda idx, t: ambient_c + loss_w(idx, t) / conductance_w_k - t  # noqa: E731
+    idx = np.arange(n)
+    lo = np.full(n, float(ambient_c))
+    f_lo = f_of(idx, lo)
+    temps = lo.copy()
+    over = np.zeros(n, dtype=bool)
+    todo = f_lo > TEMPERATURE_TOL_K
+    # One substitution step gives a better far end than the cap for most points.
+    hi = np.minimum(ambient_c + np.maximum(f_lo, 0.0) + TEMPERATURE_TOL_K, TEMPERATURE_CAP_C)
+    f_hi = np.zeros(n)
+    if todo.any():
+        f_hi[todo] = f_of(idx[todo], hi[todo])
+    past = todo & (f_hi > 0)  # the root lies beyond the first step: bracket up to the cap
+    if past.any():
+        lo[past], f_lo[past] = hi[past], f_hi[past]
+        hi[past] = TEMPERATURE_CAP_C
+        f_hi[past] = f_of(idx[past], hi[past])
+        capped = past & (f_hi > 0)
+        over[capped], temps[capped], todo[capped] = True, TEMPERATURE_CAP_C, False
+    side = np.zeros(n)
+    for _ in range(60):
+        active = todo & (np.abs(hi - lo) > TEMPERATURE_TOL_K)
+        if not active.any():
+            break
+        a = idx[active]
+        t = hi[a] - f_hi[a] * (hi[a] - lo[a]) / (f_hi[a] - f_lo[a])
+        f = f_of(a, t)
+        done = np.abs(f) <= TEMPERATURE_TOL_K
+        lower = f > 0  # the root is above t
+        lo_new, hi_new = np.where(lower, t, lo[a]), np.where(lower, hi[a], t)
+        flo_new, fhi_new = np.where(lower, f, f_lo[a]), np.where(lower, f_hi[a], f)
+        # Illinois: halve the end that stayed put twice running.
+        fhi_new = np.where(lower & (side[a] > 0), fhi_new / 2, fhi_new)
+        flo_new = np.where(~lower & (side[a] < 0), flo_new / 2, flo_new)
+        side[a] = np.where(lower, 1.0, -1.0)
+        lo[a], hi[a], f_lo[a], f_hi[a] = lo_new, hi_new, flo_new, fhi_new
+        temps[a] = t
+        todo[a[done]] = False
+    still = todo & ~over
+    temps[still] = (lo[still] + hi[still]) / 2
+    return temps, over
+
+
 CURVE_POINTS = 24
 _CONNECTION = {"star": "star", "delta": "delta", "single_phase": "single"}
 
@@ -43,8 +103,16 @@ class OperatingPoint:
     efficiency: float
     phase_current_rms_a: float
     current_density_a_mm2: float
-    coil_temperature_c: float
+    coil_temperature_c: float  # TEMPERATURE_CAP_C where temperature_over_cap
     open_circuit_line_rms_v: float
+    temperature_over_cap: bool = False  # the steady state lies above TEMPERATURE_CAP_C
+
+    @property
+    def temperature_words(self) -> str:
+        """The coil temperature for a reader: "about 66 °C", or where the estimate stops."""
+        if self.temperature_over_cap:
+            return f"over {TEMPERATURE_CAP_C:g} °C (the estimate means nothing there)"
+        return f"about {self.coil_temperature_c:.0f} °C"
 
 
 @dataclass(frozen=True)
@@ -207,25 +275,30 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
     n_coils = len(layout.coils)
     phases = layout.phases
     line_rms_per = float(rms(emf.line_v[0])) * turns
+    conductance = FACE_HEAT_TRANSFER_W_M2K * area
     if load is not None:
-        temps = np.full(len(rpms), ambient)
-        for _ in range(3):  # resistance and temperature settle in a few passes
-            res = _simulate(spec, layout, emf, turns, r_phase, l_phase, rpms, load, temps)
-            temps = ambient + res.copper_loss_w / (FACE_HEAT_TRANSFER_W_M2K * area)
+
+        def loss(idx, t):
+            return _simulate(spec, layout, emf, turns, r_phase, l_phase, rpms[idx], load, t).copper_loss_w
+
+        temps, over = settle_temperature(loss, ambient, conductance, len(rpms))
+        res = _simulate(spec, layout, emf, turns, r_phase, l_phase, rpms, load, temps)
         dc_v, dc_i, dc_p = res.dc_voltage_v, res.dc_current_a, res.dc_power_w
         cu_w, rect_w = res.copper_loss_w, res.rectifier_loss_w
         i_ph = res.phase_current_rms_a
         src = res.source_power_w
     else:
-        temps = np.full(len(rpms), ambient)
         load_ohm = (ta.voltage_v / math.sqrt(3) if star else ta.voltage_v) / (
             ta.rated_current_a if star else ta.rated_current_a / math.sqrt(3)
         )
-        for _ in range(3):
-            r_hot = r_phase * copper_resistivity(temps) / copper_resistivity(20.0)
-            e_ph, i_ph, v_ph = _ac_line_output(spec, layout, emf, turns, r_hot, l_phase, rpms, load_ohm)
-            cu_w = phases * i_ph**2 * r_hot
-            temps = ambient + cu_w / (FACE_HEAT_TRANSFER_W_M2K * area)
+
+        def ac_line(idx, t):
+            r_hot = r_phase * copper_resistivity(np.asarray(t)) / copper_resistivity(20.0)
+            _e, i, v = _ac_line_output(spec, layout, emf, turns, r_hot, l_phase, rpms[idx], load_ohm)
+            return i, v, phases * i**2 * r_hot
+
+        temps, over = settle_temperature(lambda i, t: ac_line(i, t)[2], ambient, conductance, len(rpms))
+        i_ph, v_ph, cu_w = ac_line(np.arange(len(rpms)), temps)
         dc_p = phases * i_ph**2 * load_ohm
         dc_v = v_ph * (math.sqrt(3) if star else 1.0)  # line voltage
         dc_i = i_ph * (1.0 if star else math.sqrt(3))  # line current
@@ -246,6 +319,7 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
             current_density_a_mm2=float(density[k]),
             coil_temperature_c=float(temps[k]),
             open_circuit_line_rms_v=float(line_rms_per * _omega(rpms[k])),
+            temperature_over_cap=bool(over[k]),
         )
         for k in range(len(rpms))
     )
@@ -265,7 +339,7 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
         phase_inductance_mh=l_phase * 1e3,
         copper_fill=turns * wire.copper_mm2 / geo.coil.window_mm2,
         wire_length_per_phase_m=n_phase_coils * turns * mlt_m * wire.strands,
-        copper_mass_kg=copper_m3 * 8890.0,
+        copper_mass_kg=copper_m3 * COPPER_DENSITY_G_CM3 * 1000,
         rated_rpm=ta.rated_rpm,
         max_rpm=ta.max_rpm,
         cut_in_rpm=cut_in,

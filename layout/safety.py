@@ -97,7 +97,7 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
         add(
             "coil.temperature",
             "warning",
-            f"Coils reach about {rated.coil_temperature_c:.0f} °C at {rated.rpm:g} rpm (rough "
+            f"Coils reach {rated.temperature_words} at {rated.rpm:g} rpm (rough "
             f"estimate), over the {binder_max:g} °C that {spec.stator.binder} takes: it softens "
             "and coils shift. Use thicker wire (fewer turns with more magnet), a bigger coil "
             "window, or a lower rated speed.",
@@ -106,7 +106,7 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
         add(
             "coil.overspeed_heat",
             "warning",
-            f"Loaded at {top.rpm:g} rpm the coils would reach about {top.coil_temperature_c:.0f} °C "
+            f"Loaded at {top.rpm:g} rpm the coils would reach {top.temperature_words} "
             f"(rough estimate), over the {binder_max:g} °C of {spec.stator.binder}: limit the "
             "current above the rated speed (controller, furling, governor) or it burns out.",
         )
@@ -127,7 +127,7 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
         add(
             "magnet.temperature",
             "warning",
-            f"Coils at about {hot.coil_temperature_c:.0f} °C sit a few mm from magnets rated to "
+            f"Coils at {hot.temperature_words} sit a few mm from magnets rated to "
             f"{grade_max:g} °C: they can lose strength for good. Choose a higher-temperature "
             "grade (H, SH) or cut the copper loss.",
         )

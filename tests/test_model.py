@@ -335,3 +335,69 @@ def test_ac_line_target_is_met_with_the_fewest_turns():
         v_ph_target / 3.0,
     )
     assert float(v_ph) * math.sqrt(3) < 40.0
+
+
+@pytest.mark.parametrize("demo", DEMOS)
+def test_coil_temperature_is_a_converged_fixed_point(demo):
+    from layout.circuit import Load, simulate_rectifier
+    from layout.model import (
+        _CONNECTION,
+        FACE_HEAT_TRANSFER_W_M2K,
+        TEMPERATURE_CAP_C,
+        _cooling_area_m2,
+    )
+    from layout.wire import copper_resistivity
+
+    d = design(demo)
+    spec, pr = d.spec, d.prediction
+    ta = spec.target
+    g = FACE_HEAT_TRANSFER_W_M2K * _cooling_area_m2(d.geometry, spec)
+    for op in pr.curve:
+        if op.temperature_over_cap:
+            assert op.coil_temperature_c == TEMPERATURE_CAP_C
+            assert ta.ambient_c + op.copper_loss_w / g > TEMPERATURE_CAP_C  # the heat balance says so
+            assert "means nothing" in op.temperature_words
+            continue
+        # The heat balance holds at the reported temperature ...
+        assert op.coil_temperature_c == pytest.approx(ta.ambient_c + op.copper_loss_w / g, abs=0.1)
+        if ta.kind == "ac_line":
+            continue
+        # ... and the currents are those of the circuit with the copper at that temperature,
+        # simulated afresh here (one point, its own call).
+        load = (
+            Load("battery", ta.battery_resistance_ohm, ta.battery_v)
+            if ta.kind == "battery"
+            else Load("resistor", ta.voltage_v / ta.rated_current_a)
+        )
+        w = op.rpm * 2 * np.pi / 60
+        res = simulate_rectifier(
+            pr.emf.phase_v[None] * pr.turns_per_coil * w,
+            frequency_hz=np.array([d.layout.pole_pairs * op.rpm / 60]),
+            resistance_ohm=np.array([pr.phase_resistance_ohm * copper_resistivity(op.coil_temperature_c)])
+            / copper_resistivity(20),
+            inductance_h=pr.phase_inductance_mh / 1000,
+            connection=_CONNECTION[spec.connection.kind],
+            diode_drop_v=ta.diode_drop_v,
+            load=load,
+        )
+        assert op.dc_current_a == pytest.approx(float(res.dc_current_a[0]), rel=5e-3, abs=1e-4)
+
+
+def test_settle_temperature_against_a_closed_form():
+    from layout.model import TEMPERATURE_CAP_C, settle_temperature
+
+    # A resistor R(T) = R20(1 + α(T−20)) across a fixed current: P = I²R(T), so
+    # T = Ta + I²R20(1 + α(T−20))/G has the closed form T = (Ta + k(1 − 20α)) / (1 − kα), k = I²R20/G.
+    alpha, r20, g, ta = 0.00393, 0.5, 0.2, 25.0
+    currents = np.array([0.0, 1.0, 3.0, 6.0, 9.0])
+
+    def loss(idx, t):
+        return currents[idx] ** 2 * r20 * (1 + alpha * (np.asarray(t) - 20))
+
+    temps, over = settle_temperature(loss, ta, g, len(currents))
+    k = currents**2 * r20 / g
+    exact = (ta + k * (1 - 20 * alpha)) / (1 - k * alpha)
+    ok = exact < TEMPERATURE_CAP_C
+    assert np.allclose(temps[ok], exact[ok], atol=0.1)
+    assert (over == ~ok).all() and (temps[over] == TEMPERATURE_CAP_C).all()
+    assert over.any() and ok.sum() >= 3  # both kinds of point were tried
