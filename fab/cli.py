@@ -177,7 +177,7 @@ def balance(design, masses_csv, grade, as_json):
     if masses_csv is not None:
         src, text = read_text_input(masses_csv, "a CSV list of magnet masses")
         n = d.spec.magnets.count * len({m.disc for m in d.geometry.magnets})
-        masses = read_masses(text, src, n)
+        masses = read_masses(text, src, n, d.forces.magnet_mass_g)
     rb = balance_rotor(d, disc_bodies(d), masses, grade)
     if as_json:
         click.echo(to_json(balance_json(rb)))

@@ -447,6 +447,7 @@ def balance_json(rb) -> dict:
                 "mass_kg": _r(d.mass_kg, 4),
                 "unbalance_before_gmm": _r(d.unbalance_before_gmm, 3),
                 "unbalance_after_gmm": _r(d.unbalance_after_gmm, 3),
+                "clearance_floor_gmm": _r(d.clearance_floor_gmm, 3),
                 "permissible_gmm": _r(d.permissible_gmm, 3),
                 "assignment": [
                     {"pocket": a.pocket, "magnet": a.magnet, "face": a.face, "mass_g": _r(a.mass_g, 3)}
@@ -485,11 +486,16 @@ def balance_text(rb, name: str) -> str:
             if c.needed
             else "none needed"
         )
-        rows.append(
-            [d.disc, d.mass_kg, d.unbalance_before_gmm, d.unbalance_after_gmm, d.permissible_gmm, fix]
-        )
+        after = f"<{d.clearance_floor_gmm:.0f}" if d.below_floor else f"{d.unbalance_after_gmm:.1f}"
+        rows.append([d.disc, d.mass_kg, d.unbalance_before_gmm, after, d.permissible_gmm, fix])
     out.append(
         table(["disc", "mass_kg", "before_gmm", "after_gmm", "allowed_gmm", "correction"], rows, "Discs")
+    )
+    floor = rb.discs[0].clearance_floor_gmm
+    out.append(
+        f"Each magnet can sit anywhere within its place's clearance, which alone leaves about "
+        f"{floor:.0f} g·mm (rms) a disc: no placement promises less"
+        + (" (after_gmm <N: below that floor)." if any(d.below_floor for d in rb.discs) else ".")
     )
     if len(rb.discs) == 2:
         out.append(

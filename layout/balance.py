@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from layout.rotor import balance_positions, part_angle_deg, pocket_marks
+from layout.rotor import balance_positions, part_angle_deg, pocket_clearance_mm, pocket_marks
 
 # Balance grades of ISO 21940-11 (mm/s).
 GRADES = {"G0.4": 0.4, "G1": 1.0, "G2.5": 2.5, "G6.3": 6.3, "G16": 16.0, "G40": 40.0}
@@ -173,8 +173,30 @@ class MassListError(ValueError):
     """A bad magnet mass list; str() is one line naming the file, line and value."""
 
 
-def read_masses(text: str, source: str, expected: int) -> list[WeighedMagnet]:
-    """Parse `id,mass_g` CSV text; every problem is a MassListError with one line."""
+MASS_OUTLIER_PCT = (
+    5.0  # a magnet this far off the median is chipped, cracked or another size (common practice)
+)
+OUNCE_G = 28.349523125  # avoirdupois ounce (international yard and pound agreement, 1959)
+
+
+def _unit_slip(median_g: float, nominal_g: float) -> str | None:
+    """What a list whose median is far from the design's magnet probably holds instead of grams."""
+    ratio = median_g / nominal_g
+    if 0.5e-3 <= ratio <= 2e-3:
+        return "kilograms"
+    if 0.5 / OUNCE_G <= ratio <= 2 / OUNCE_G:
+        return "ounces"
+    if 0.5e3 <= ratio <= 2e3:
+        return "milligrams"
+    return None
+
+
+def read_masses(text: str, source: str, expected: int, nominal_g: float | None = None) -> list[WeighedMagnet]:
+    """Parse `id,mass_g` CSV text; every problem is a MassListError with one line.
+
+    With the design's nominal magnet mass (g), a list in another unit (kilograms, ounces,
+    milligrams) and a magnet more than MASS_OUTLIER_PCT off the median are refused too.
+    """
     rows = list(csv.reader(io.StringIO(text)))
     rows = [(n + 1, r) for n, r in enumerate(rows) if r and any(c.strip() for c in r)]
     if not rows:
@@ -204,7 +226,28 @@ def read_masses(text: str, source: str, expected: int) -> list[WeighedMagnet]:
         out.append(WeighedMagnet(ident, mass))
     if len(out) != expected:
         raise MassListError(f"{source}: {len(out)} magnets listed: the rotor takes {expected}")
+    median = float(np.median([m.mass_g for m in out]))
+    if nominal_g is not None and not 0.5 <= median / nominal_g <= 2:
+        unit = _unit_slip(median, nominal_g)
+        hint = f"; it looks like {unit}: give every mass in grams" if unit else "; check the unit (grams)"
+        raise MassListError(
+            f"{source}: mass_g: the median is {median:g}, the design's magnet about {nominal_g:.1f} g{hint}"
+        )
+    for m in out:
+        off = 100 * (m.mass_g - median) / median
+        if abs(off) > MASS_OUTLIER_PCT:
+            raise MassListError(
+                f"{source}: magnet {m.id!r}: {m.mass_g:g} g is {off:+.1f} % off the median {median:g} g "
+                f"(more than {MASS_OUTLIER_PCT:g} %): chipped or another size? weigh it again or set it aside"
+            )
     return out
+
+
+def clearance_floor_gmm(magnet_g: float, clearance_mm: float, count: int) -> float:
+    """RMS unbalance (g·mm) of `count` magnets of `magnet_g` each free to sit anywhere within
+    `clearance_mm` of their places: offsets uniform over a disc of that radius have
+    E|δ|² = c²/2, and independent ones add in power, so U_rms = m·c·√(count/2)."""
+    return magnet_g * clearance_mm * math.sqrt(count / 2)
 
 
 def monte_carlo_unbalance(
@@ -242,6 +285,12 @@ class DiscBalance:
     permissible_gmm: float  # this disc's share of U_per (its correction plane)
     assignment: tuple[PocketAssignment, ...]
     correction: Correction
+    clearance_floor_gmm: float = 0.0  # what the magnets' play in their places alone leaves (rms)
+
+    @property
+    def below_floor(self) -> bool:
+        """The placement's residual is smaller than the clearance lets anyone build."""
+        return self.unbalance_after_gmm < self.clearance_floor_gmm
 
 
 @dataclass(frozen=True)
@@ -388,6 +437,7 @@ def balance_rotor(
                 permissible_gmm=share[k],
                 assignment=assignment,
                 correction=corr,
+                clearance_floor_gmm=clearance_floor_gmm(nominal_g, pocket_clearance_mm(spec), per_disc),
             )
         )
     static = abs(sum(vectors))

@@ -225,3 +225,57 @@ def test_disc_bodies_from_the_solids():
         assert disc.unbalance_after_gmm == pytest.approx(
             abs(complex(*body.com_offset_mm)) * body.mass_kg * 1000
         )
+
+
+def _masses_csv(masses) -> str:
+    return "id,mass_g\n" + "".join(f"m{k},{m}\n" for k, m in enumerate(masses, 1))
+
+
+@pytest.mark.parametrize(
+    ("scale", "unit"),
+    [(1e-3, "kilograms"), (1 / 28.349523125, "ounces"), (1e3, "milligrams"), (10.0, "check the unit")],
+)
+def test_mass_list_in_another_unit_is_named(scale, unit):
+    from layout.balance import MassListError
+
+    masses = [round(94.0 * (1 + 0.002 * k) * scale, 6) for k in range(8)]
+    with pytest.raises(MassListError, match=unit):
+        read_masses(_masses_csv(masses), "m.csv", 8, nominal_g=94.0)
+    assert len(read_masses(_masses_csv([94.0 + 0.1 * k for k in range(8)]), "m.csv", 8, nominal_g=94.0)) == 8
+
+
+def test_a_magnet_far_off_the_median_is_named():
+    from layout.balance import MassListError
+
+    masses = [94.0] * 7 + [89.0]  # 5.3 % light: a chipped magnet
+    with pytest.raises(MassListError, match=r"magnet 'm8': 89 g is -5\.3 % off the median 94 g"):
+        read_masses(_masses_csv(masses), "m.csv", 8, nominal_g=94.0)
+
+
+def test_clearance_floor_against_monte_carlo():
+    from layout.balance import clearance_floor_gmm
+
+    # Brute force: every magnet displaced uniformly over a disc of radius c (area-uniform).
+    rng = np.random.default_rng(7)
+    m, c, n, trials = 90.0, 0.3, 16, 40_000
+    r = c * np.sqrt(rng.uniform(0, 1, (trials, n)))
+    phi = rng.uniform(0, 2 * np.pi, (trials, n))
+    u = np.abs((m * r * np.exp(1j * phi)).sum(axis=1))
+    assert clearance_floor_gmm(m, c, n) == pytest.approx(np.sqrt(np.mean(u**2)), rel=0.02)
+
+
+def test_balance_never_promises_less_than_the_clearance_floor():
+    d = design("millrace")
+    n = d.spec.magnets.count * 2
+    nominal = d.forces.magnet_mass_g
+    masses = [WeighedMagnet(f"m{k}", nominal * (1 + 0.001 * ((k * 7) % 5 - 2))) for k in range(n)]
+    rb = balance_rotor(d, nominal_disc_bodies(d), masses)
+    for db in rb.discs:
+        assert db.clearance_floor_gmm > 1.0
+        assert db.below_floor == (db.unbalance_after_gmm < db.clearance_floor_gmm)
+    from fab.report import balance_text
+
+    text = balance_text(rb, "millrace")
+    assert "no placement promises less" in text
+    if any(db.below_floor for db in rb.discs):
+        assert f"<{rb.discs[0].clearance_floor_gmm:.0f}" in text
