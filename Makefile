@@ -35,6 +35,7 @@ sheet-png: venv
 
 bench: venv
 	$(BIN)/python bench/plan_speed.py
+	$(BIN)/python bench/pairs_speed.py
 	$(BIN)/python bench/build_speed.py
 
 clean:

@@ -13,6 +13,7 @@ import click
 
 from fab import OutputError
 from layout.balance import MassListError
+from layout.pairs import SORT_KEYS, STATORS
 from layout.spec import DesignError, read_text_input
 
 EXIT_USER_ERROR = 2
@@ -92,22 +93,35 @@ def cli():
 )
 @click.option(
     "--sort",
-    type=click.Choice(["coils", "magnets", "winding_factor", "cogging_steps"]),
+    type=click.Choice(list(SORT_KEYS)),
     default="coils",
     show_default=True,
 )
+@click.option(
+    "--stator",
+    type=click.Choice(list(STATORS)),
+    default="coreless",
+    show_default=True,
+    help="coreless coils (span free, up to a pole pitch) or tooth coils round iron teeth",
+)
 @click.option("--balanced-only", is_flag=True, help="leave out combinations that cannot work")
 @click.option("--json", "as_json", is_flag=True, help="print a JSON array for scripts")
-def pairs(phases, coils, magnets, sort, balanced_only, as_json):
+def pairs(phases, coils, magnets, sort, stator, balanced_only, as_json):
     """Coil/magnet count combinations with winding factors, balance and notes."""
     from fab.report import pairs_rows_json, pairs_text, to_json
     from layout.pairs import combinations
 
-    rows = combinations(coils, magnets, int(phases), balanced_only=balanced_only, sort=sort)
+    if not any(m % 2 == 0 for m in magnets):
+        shown = f"{magnets.start}" if len(magnets) == 1 else f"{magnets.start}-{magnets.stop - 1}"
+        raise click.BadParameter(
+            f"{shown} holds no even count: magnets alternate N and S, so a disc takes an even number",
+            param_hint="'--magnets'",
+        )
+    rows = combinations(coils, magnets, int(phases), balanced_only=balanced_only, sort=sort, stator=stator)
     if as_json:
         click.echo(to_json(pairs_rows_json(rows)))
     else:
-        click.echo(pairs_text(rows, int(phases)))
+        click.echo(pairs_text(rows, int(phases), stator))
 
 
 @cli.command()

@@ -9,7 +9,7 @@ from collections.abc import Sequence
 from layout.design import Design
 from layout.forces import STEEL_B_LIMIT_T, G
 from layout.model import TEMPERATURE_CAP_C
-from layout.pairs import Pair
+from layout.pairs import STATOR_RULES, Pair
 
 
 def table(headings: Sequence[str], rows: Sequence[Sequence[object]], title: str = "") -> str:
@@ -61,6 +61,7 @@ def pairs_rows_json(rows: Sequence[Pair]) -> list[dict]:
             "periodicity": r.periodicity,
             "rotational_symmetry": r.rotational_symmetry,
             "cogging_steps": r.cogging_steps,
+            "stator": r.stator,
             "notes": list(r.notes),
         }
         if r.phases == 1:
@@ -69,7 +70,7 @@ def pairs_rows_json(rows: Sequence[Pair]) -> list[dict]:
     return out
 
 
-def pairs_text(rows: Sequence[Pair], phases: int) -> str:
+def pairs_text(rows: Sequence[Pair], phases: int, stator: str = "coreless") -> str:
     if not rows:
         return "No combinations in these ranges."
     headings = ["coils", "magnets", "balanced", "k_d", "k_p", "k_w"]
@@ -91,7 +92,7 @@ def pairs_text(rows: Sequence[Pair], phases: int) -> str:
         body.append(row)
     kind = "three-phase" if phases == 3 else "single-phase"
     foot = (
-        "k_d distribution factor, k_p pitch factor of a coil one position wide, k_w = k_d*k_p.\n"
+        f"k_d distribution factor, k_p pitch factor, k_w = k_d*k_p. k_p for {STATOR_RULES[stator]}.\n"
         "Cogging steps per revolution = LCM(coils, magnets); they matter only with iron teeth "
         "in the stator (a coreless or flat-plate stator has no cogging)."
     )

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from layout.bill import Bill, materials_bill
@@ -31,8 +32,6 @@ class Design:
     @property
     def geometric_pitch_factor(self) -> float:
         """k_p of the coils as shaped, legs' centres `span_deg` apart."""
-        import math
-
         return span_pitch_factor(self.layout.pole_pairs, math.radians(self.geometry.coil.span_deg))
 
 
@@ -84,7 +83,13 @@ def compute_design(spec: Spec) -> Design:
     return Design(
         spec=spec,
         layout=lay,
-        layout_notes=tuple(layout_notes(lay)),
+        # Coreless coils: judge the layout by the factor of the coils as shaped.
+        layout_notes=tuple(
+            layout_notes(
+                lay,
+                span_pitch_factor(lay.pole_pairs, math.radians(geo.coil.span_deg)) * lay.distribution_factor,
+            )
+        ),
         geometry=geo,
         flux=fmap,
         linkage=link,

@@ -2,9 +2,30 @@
 
 from __future__ import annotations
 
+import functools
+import math
 from dataclasses import dataclass
 
-from layout.winding import Layout, layout_notes, star_of_slots
+import numpy as np
+
+from layout.winding import (
+    _balanced_rows,
+    _phasors_deg,
+    _single_phase,
+    _three_phase,
+    _unit,
+    coreless_pitch_factor,
+    figure_notes,
+    tooth_pitch_factor,
+)
+
+STATORS = ("coreless", "teeth")
+# What each stator kind's pitch factor assumes, printed under the table.
+STATOR_RULES = {
+    "coreless": "coreless coils: legs one position pitch apart at most one pole pitch, "
+    "k_p = |sin(p·min(2π/Q, π/p)/2)|; coils with wide legs come out lower (see plan)",
+    "teeth": "tooth coils round iron teeth, one position pitch wide: k_p = |sin(p·π/Q)|",
+}
 
 
 @dataclass(frozen=True)
@@ -21,24 +42,70 @@ class Pair:
     rotational_symmetry: int
     cogging_steps: int
     notes: tuple[str, ...]
+    stator: str = "coreless"
 
 
 SORT_KEYS = ("coils", "magnets", "winding_factor", "cogging_steps")
 
 
-def pair_notes(layout: Layout) -> list[str]:
-    """Short notes on one coil/magnet pair for the `pairs` table (balance, pull, factors)."""
-    notes = layout_notes(layout)
+@functools.cache
+def _reduced(q: int, phases: int) -> tuple[bool, float, float]:
+    """(balanced, k_d, as-wound k_d) of Q' = Q/t positions with t = gcd(Q, p) = 1.
+
+    Q positions under p pole pairs put t coils on each of Q/t phasor angles, and with
+    gcd(Q', p') = 1 those angles are every multiple of 360°/Q', whatever p'. The belts, sums
+    and counts of the full machine are those of the reduced one times t, so its factors and
+    its balance depend on Q' alone (Bianchi & Dai Prè 2006): p' = 1 stands for them all.
+    """
+    theta = _phasors_deg(q, 1, np.arange(q))
+    if phases == 3:
+        _phase, _sign, sums, counts = _three_phase(theta)
+        balanced = bool(_balanced_rows(sums[None], counts[None])[0])
+    else:
+        _phase, _sign, sums, counts = _single_phase(theta)
+        balanced = True
+    kd = float((np.abs(sums) / np.maximum(counts, 1)).min())
+    as_wound = float(abs(_unit(theta).sum()) / q)
+    return balanced, kd, as_wound
+
+
+def pair_figures(q: int, pm: int, phases: int, stator: str = "coreless") -> Pair:
+    """The `pairs` row of Q positions under P magnets, for a coreless or a toothed stator."""
+    p = pm // 2
+    t = math.gcd(q, p)
+    balanced, kd, as_wound = _reduced(q // t, phases)
+    kp = coreless_pitch_factor(p, q) if stator == "coreless" else tooth_pitch_factor(p, q)
+    symmetry = math.gcd(q, pm)
+    notes = figure_notes(phases, balanced, q, kd, as_wound, kd * kp, symmetry == 1)
     # Tooth coils as wide as a position can span two poles and cancel; a coreless coil
     # sized to one magnet does not, so say how to escape rather than reject the pair.
-    if layout.distribution_factor > 0.5 and layout.pitch_factor < 0.5:
+    if stator == "teeth" and kd > 0.5 and kp < 0.5:
         notes = [n for n in notes if not n.startswith("weak")]
         notes.append("a coil one position wide spans two poles: make coils about one magnet wide")
-    return notes
+    return Pair(
+        coils=q,
+        magnets=pm,
+        phases=phases,
+        balanced=balanced,
+        distribution_factor=kd,
+        pitch_factor=kp,
+        winding_factor=kd * kp,
+        as_wound_distribution_factor=as_wound,
+        periodicity=t,
+        rotational_symmetry=symmetry,
+        cogging_steps=math.lcm(q, pm),
+        notes=tuple(notes),
+        stator=stator,
+    )
 
 
 def combinations(
-    coils: range, magnets: range, phases: int, balanced_only: bool = False, sort: str = "coils"
+    coils: range,
+    magnets: range,
+    phases: int,
+    balanced_only: bool = False,
+    sort: str = "coils",
+    stator: str = "coreless",
 ) -> list[Pair]:
     """Every (Q, P) in the ranges with P even; sorted by `sort` (factors best first)."""
     rows: list[Pair] = []
@@ -46,25 +113,10 @@ def combinations(
         for pm in magnets:
             if pm % 2 or pm < 2 or q < 2:
                 continue
-            lay = star_of_slots(q, pm, phases, exact_paths=False)
-            if balanced_only and not (lay.balanced and lay.distribution_factor > 1e-9):
+            row = pair_figures(q, pm, phases, stator)
+            if balanced_only and not (row.balanced and row.distribution_factor > 1e-9):
                 continue
-            rows.append(
-                Pair(
-                    coils=q,
-                    magnets=pm,
-                    phases=phases,
-                    balanced=lay.balanced,
-                    distribution_factor=lay.distribution_factor,
-                    pitch_factor=lay.pitch_factor,
-                    winding_factor=lay.winding_factor,
-                    as_wound_distribution_factor=lay.as_wound_distribution_factor,
-                    periodicity=lay.periodicity,
-                    rotational_symmetry=lay.rotational_symmetry,
-                    cogging_steps=lay.cogging_steps,
-                    notes=tuple(pair_notes(lay)),
-                )
-            )
+            rows.append(row)
     if sort == "winding_factor":
         rows.sort(key=lambda r: (-round(r.winding_factor, 9), r.coils, r.magnets))
     elif sort == "cogging_steps":

@@ -97,6 +97,17 @@ def tooth_pitch_factor(pole_pairs: int, coil_positions: int) -> float:
     return abs(math.sin(pole_pairs * math.pi / coil_positions))
 
 
+def coreless_pitch_factor(pole_pairs: int, coil_positions: int) -> float:
+    """k_p of a coreless coil as wide as its position allows, at most one pole pitch.
+
+    Without teeth a coil's span is free: its legs' centres can be up to one position pitch
+    2π/Q apart, and a span of one pole pitch π/p (k_p = 1) is the most worth having; so
+    β = min(2π/Q, π/p) and k_p = |sin(p·β/2)|. Real coils, with legs of finite width, come
+    out lower: `plan` gives the factor of the coils as shaped.
+    """
+    return span_pitch_factor(pole_pairs, min(2 * math.pi / coil_positions, math.pi / pole_pairs))
+
+
 def span_pitch_factor(pole_pairs: int, span_rad: float) -> float:
     """k_p = |sin(p·β/2)| for a coil whose legs' centres are β (mechanical radians) apart."""
     return abs(math.sin(pole_pairs * span_rad / 2))
@@ -139,48 +150,69 @@ def _is_balanced(sums: np.ndarray, counts: np.ndarray) -> bool:
     return True
 
 
+_BELT_PHASE = np.array([b[0] for b in _BELTS])
+_BELT_SIGN = np.array([b[1] for b in _BELTS])
+
+
+def _balanced_rows(sums: np.ndarray, counts: np.ndarray) -> np.ndarray:
+    """`_is_balanced` for each row of (n, 3) phase sums and counts at once."""
+    cmin, cmax = counts.min(axis=1), counts.max(axis=1)
+    mags = np.abs(sums)
+    ok = (cmin > 0) & (cmin == cmax)
+    ok &= mags.min(axis=1) > _REL_TOL * counts[:, 0]
+    ok &= (mags.max(axis=1) - mags.min(axis=1)) <= _REL_TOL * mags.max(axis=1)
+    ang = np.degrees(np.angle(sums))
+    for k in (1, 2):  # B lags A by 120°, C lags A by 240°
+        d = (ang[:, 0] - ang[:, k] - 120.0 * k + 180.0) % 360.0 - 180.0
+        ok &= np.abs(d) <= _ANGLE_TOL_DEG
+    return ok
+
+
 def _three_phase(theta_deg: np.ndarray):
     """Try belt offsets midway between phasor angles; keep the best-balanced assignment.
 
     Offsets on a phasor would make the assignment depend on rounding (12 coils under
-    14 magnets puts every phasor on a belt edge at offset 0); midpoints never do.
+    14 magnets puts every phasor on a belt edge at offset 0); midpoints never do. Every
+    offset is evaluated at once (offsets × coils arrays); ties go to the first offset.
     """
     frac = np.unique(np.round(np.mod(theta_deg, 60.0), 9))
     nxt = np.append(frac[1:], frac[0] + 60.0)
     candidates = np.mod((frac + nxt) / 2.0, 60.0)
-    best = None
-    for off in candidates:
-        phase, sign = _belt_assignment(theta_deg, off)
-        sums = _phase_sums(theta_deg, phase, sign, 3)
-        counts = np.bincount(phase, minlength=3)
-        kd = np.abs(sums) / np.maximum(counts, 1)
-        balanced = _is_balanced(sums, counts)
-        score = (balanced, round(float(kd.min()), 9), -int(counts.max() - counts.min()))
-        if best is None or score > best[0]:
-            best = (score, phase, sign, sums, counts)
-    _, phase, sign, sums, counts = best
-    return phase, sign, sums, counts
+    belt = np.floor(np.mod(theta_deg[None, :] - candidates[:, None], 360.0) / 60.0).astype(int) % 6
+    belt = (belt - belt[:, :1]) % 6  # the first coil defines +A
+    phase, sign = _BELT_PHASE[belt], _BELT_SIGN[belt]
+    onehot = phase[..., None] == np.arange(3)  # (offsets, coils, phases)
+    sums = ((sign * _unit(theta_deg)[None, :])[..., None] * onehot).sum(axis=1)
+    counts = onehot.sum(axis=1)
+    kd = np.abs(sums) / np.maximum(counts, 1)
+    balanced = _balanced_rows(sums, counts)
+    scores = list(
+        zip(
+            balanced.tolist(),
+            np.round(kd.min(axis=1), 9).tolist(),
+            (counts.min(axis=1) - counts.max(axis=1)).tolist(),
+            strict=True,
+        )
+    )
+    r = max(range(len(candidates)), key=scores.__getitem__)
+    return phase[r], sign[r], sums[r], counts[r]
 
 
 def _single_phase(theta_deg: np.ndarray):
     """The polarities that maximise |Σ s_k·e^{jθ_k}|: s_k = sign(cos(θ_k − u)) for the best u.
 
-    The optimum is a half plane, so only directions just past ±90° of some phasor need trying.
+    The optimum is a half plane, so only directions just past ±90° of some phasor need trying;
+    all of them are evaluated at once, ties to the first.
     """
     u = _unit(theta_deg)
     eps = 1e-7
     cands = np.concatenate([theta_deg, theta_deg + 90 + eps, theta_deg - 90 - eps, theta_deg + 90 - eps])
-    best = None
-    for d in np.radians(cands):
-        proj = np.cos(np.radians(theta_deg) - d)
-        s = np.where(proj >= -1e-12, 1, -1)
-        if s[0] < 0:
-            s = -s
-        mag = abs((s * u).sum())
-        score = (round(mag, 9), -int((s < 0).sum()))
-        if best is None or score > best[0]:
-            best = (score, s)
-    sign = best[1]
+    proj = np.cos(np.radians(theta_deg)[None, :] - np.radians(cands)[:, None])
+    s = np.where(proj >= -1e-12, 1, -1)
+    s = np.where(s[:, :1] < 0, -s, s)
+    mags = np.abs((s * u[None, :]).sum(axis=1))
+    scores = list(zip(np.round(mags, 9).tolist(), (-(s < 0).sum(axis=1)).tolist(), strict=True))
+    sign = s[max(range(len(cands)), key=scores.__getitem__)]
     phase = np.zeros(len(theta_deg), dtype=int)
     return phase, sign, np.array([(sign * u).sum()]), np.array([len(theta_deg)])
 
@@ -274,12 +306,14 @@ def star_of_slots(
     empty_positions: tuple[int, ...] = (),
     parallel_paths: int = 1,
     exact_paths: bool = True,
+    paths: bool = True,
 ) -> Layout:
     """The winding layout for Q positions under P magnets (per disc).
 
     Raises ValueError if the counts are impossible; an unusable layout (unbalanced, coils
     cancelling) is returned with its figures so the caller can say what is wrong.
-    `exact_paths=False` skips the slow search for irregular parallel paths (for scans).
+    `exact_paths=False` skips the slow search for irregular parallel paths; `paths=False`
+    skips parallel paths altogether (scans that show none: one path is reported).
     """
     q, pm = int(coil_positions), int(magnets)
     if q < 2 or pm < 2 or pm % 2:
@@ -306,7 +340,7 @@ def star_of_slots(
     allowed: list[int] = []
     groups_by_a: dict[int, np.ndarray] = {}
     n_min = int(counts.min())
-    for a in range(1, max(n_min, 1) + 1):
+    for a in range(1, (max(n_min, 1) if paths else 1) + 1):
         paths = np.zeros(len(active), dtype=int)
         ok = n_min > 0 and kd > 1e-9
         for k in range(phases):
@@ -358,29 +392,53 @@ def star_of_slots(
     )
 
 
-def layout_notes(layout: Layout) -> list[str]:
-    """Plain-words remarks on a layout, each saying what it means for the builder."""
+def layout_notes(layout: Layout, winding_factor: float | None = None) -> list[str]:
+    """Plain-words remarks on a layout, each saying what it means for the builder.
+
+    `winding_factor` is the factor the machine will have as built (a coreless coil's own
+    span); by default the layout's tooth-coil factor.
+    """
+    return figure_notes(
+        layout.phases,
+        layout.balanced,
+        len(layout.coils),
+        layout.distribution_factor,
+        layout.as_wound_distribution_factor,
+        layout.winding_factor if winding_factor is None else winding_factor,
+        layout.unbalanced_pull,
+    )
+
+
+def figure_notes(
+    phases: int,
+    balanced: bool,
+    n_coils: int,
+    distribution_factor: float,
+    as_wound_distribution_factor: float,
+    winding_factor: float,
+    unbalanced_pull: bool,
+) -> list[str]:
+    """The remarks of `layout_notes` from the figures alone (scans build no Layout)."""
     notes: list[str] = []
-    if layout.phases == 3 and not layout.balanced:
-        q_active = len(layout.coils)
-        if q_active % 3:
-            notes.append(f"{q_active} coils do not split into three equal phases")
+    if phases == 3 and not balanced:
+        if n_coils % 3:
+            notes.append(f"{n_coils} coils do not split into three equal phases")
         else:
             notes.append("phases unequal or not 120° apart: not a balanced three-phase set")
-    if layout.phases == 1:
-        if layout.as_wound_distribution_factor < 1e-6:
+    if phases == 1:
+        if as_wound_distribution_factor < 1e-6:
             notes.append("coils cancel if all wired as wound; reverse the marked coils")
-        elif layout.as_wound_distribution_factor < layout.distribution_factor - 1e-6:
+        elif as_wound_distribution_factor < distribution_factor - 1e-6:
             notes.append("reversing some coils raises the output")
-        if layout.distribution_factor > 1 - 1e-9:
-            if layout.as_wound_distribution_factor > 1 - 1e-9:
+        if distribution_factor > 1 - 1e-9:
+            if as_wound_distribution_factor > 1 - 1e-9:
                 notes.append("every coil in phase as wound")
             else:
                 notes.append("with the reversed coils connected, every coil adds in phase")
-    if layout.distribution_factor < 1e-6:
+    if distribution_factor < 1e-6:
         notes.append("no usable output: the coil EMFs cancel")
-    elif layout.winding_factor < 0.5:
+    elif winding_factor < 0.5:
         notes.append("weak: winding factor below 0.5")
-    if layout.unbalanced_pull:
+    if unbalanced_pull:
         notes.append("no rotational symmetry: unbalanced magnetic pull on the bearings")
     return notes

@@ -111,16 +111,16 @@ PAIR_KEYS = {
 
 
 def test_pairs_table_one_pair(ok):
-    rows = [line.split() for line in ok("pairs", "--coils", "12", "--magnets", "14").splitlines()]
-    (row,) = [r for r in rows if r[:2] == ["12", "14"]]
+    out = ok("pairs", "--coils", "12", "--magnets", "14", "--stator", "teeth")
+    (row,) = [r for r in (line.split() for line in out.splitlines()) if r[:2] == ["12", "14"]]
     assert row[2] == "yes"
-    # EL-Refaie, IEEE Trans. Ind. Electron. 57(1), 2010: 12/14 winding factor 0.933.
-    assert "0.933" in row
+    # EL-Refaie, IEEE Trans. Ind. Electron. 57(1), 2010: 12/14 tooth coils, winding factor 0.933.
+    assert "0.933" in row and "tooth coils" in out
 
 
 def test_pairs_json_one_pair(ok_json):
-    (row,) = ok_json("pairs", "--coils", "12", "--magnets", "14")
-    assert set(row) >= PAIR_KEYS
+    (row,) = ok_json("pairs", "--coils", "12", "--magnets", "14", "--stator", "teeth")
+    assert set(row) >= PAIR_KEYS and row["stator"] == "teeth"
     assert (row["coils"], row["magnets"], row["phases"]) == (12, 14, 3)
     assert row["balanced"] is True
     # EL-Refaie, IEEE Trans. Ind. Electron. 57(1), 2010.
@@ -149,6 +149,25 @@ def test_pairs_single_phase_json(ok_json):
     (in_phase,) = ok_json("pairs", "--phases", "1", "--coils", "13", "--magnets", "26")
     # Common practice: 13 positions under 26 magnets are all in phase as wound.
     assert in_phase["as_wound_distribution_factor"] == pytest.approx(1, abs=1e-6)
+    # A coreless coil there spans one pole pitch (π/13 < 2π/13): k_p = sin(13·π/26) = 1, so the
+    # classic in-phase machine is no longer shown as k_w 0 (the tooth-coil figure, sin(π) = 0).
+    assert in_phase["stator"] == "coreless" and in_phase["winding_factor"] == pytest.approx(1, abs=1e-9)
+    (teeth,) = ok_json("pairs", "--phases", "1", "--coils", "13", "--magnets", "26", "--stator", "teeth")
+    assert teeth["winding_factor"] == pytest.approx(0, abs=1e-9)
+
+
+def test_coreless_pitch_factor_hand_values():
+    from layout.winding import coreless_pitch_factor
+
+    # β = min(2π/Q, π/p): 12/16 gives β = π/8, one pole pitch, k_p = 1; 12/10 gives β = 2π/12
+    # (a position is narrower than a pole), k_p = sin(5·π/12) = (√6 + √2)/4.
+    assert coreless_pitch_factor(8, 12) == pytest.approx(1)
+    assert coreless_pitch_factor(5, 12) == pytest.approx((math.sqrt(6) + math.sqrt(2)) / 4)
+
+
+def test_odd_magnet_counts_get_a_clear_message(run):
+    message = assert_user_error(run("pairs", "--magnets", "13"))
+    assert "even" in message and "13" in message
 
 
 def test_pairs_single_phase_table_shows_as_wound_factor(ok):
