@@ -34,8 +34,9 @@ from pathlib import Path
 
 from fab import OutputError
 from fab.catalogue import Builder, Item, catalogue, safety_text, write_step, write_stl  # noqa: F401
-from fab.fit import checked_design
-from layout.design import Design
+from fab.fit import check_parts
+from layout.design import Design, compute_design
+from layout.spec import load_spec
 
 MANIFEST = "manifest.json"
 
@@ -243,8 +244,10 @@ def build_package(
     proc = _start_worker() if parallel else None
     tmp = None
     try:
-        say("computing the design and checking the parts")
-        design = checked_design(design_path)
+        say("computing the design")
+        design = compute_design(load_spec(design_path))
+        say("checking the parts")
+        check_parts(design)  # the checks plan, balance and sheet make too (fit.checked_design)
         target = Path(out) if out is not None else Path("out") / design.spec.name
         for step in recover(target):
             say(step)

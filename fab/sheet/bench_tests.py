@@ -1,0 +1,164 @@
+"""The test plan: bench checks in order, each with the value expected and room for the reading."""
+
+from __future__ import annotations
+
+from xml.sax.saxutils import escape
+
+from fab.sheet.document import MM, _Ctx, _fmt_ohm, _ohm, _p, _pm, _table, _tick_box
+from fab.sheet.words import (
+    DEFER,
+    OPEN_CIRCUIT_BAND_PCT,
+    PHASE_MATCH_PCT,
+    RESISTANCE_BAND_PCT,
+    _band,
+    _terminals,
+)
+from layout.circuit import line_resistance_ohm
+from layout.design import Design
+from layout.materials import STATOR_BINDERS_MAX_C
+from layout.safety import INSULATION_MIN_MOHM, insulation_test_v
+from layout.winding import electrical_hz
+
+
+def _bench_speeds(design: Design) -> list[float]:
+    """Speeds to check the open-circuit voltage at: a slow one, cut-in and rated."""
+    ta, pr = design.spec.target, design.prediction
+    speeds = {round(pr.cut_in_rpm), ta.rated_rpm}
+    if ta.rated_rpm > 100:
+        speeds.add(100.0)
+    return sorted(speeds)
+
+
+def _test_plan(ctx: _Ctx) -> list:
+    d = ctx.design
+    pr, lay, ta, spec = d.prediction, d.layout, d.spec.target, d.spec
+    ohm = _ohm()
+    out = [_p(ctx, "Test plan", "h1")]
+    out.append(
+        _p(
+            ctx,
+            "Measure at room temperature, the rotor still unless the step says otherwise. Expected values "
+            f"are predictions: resistances ±{RESISTANCE_BAND_PCT} %, open-circuit voltages "
+            f"±{OPEN_CIRCUIT_BAND_PCT} %. "
+            "Outside the band, stop and find out why before going on.",
+        )
+    )
+    head = ["step", "check", "expected", "measured", "ok"]
+    rows = [[_p(ctx, h, "cell") for h in head]]
+
+    def add(step: str, check: str, expected: str, measured: str = ""):
+        step = f"{len(rows)}. {step}"
+        rows.append(
+            [_p(ctx, step, "cell"), _p(ctx, check, "cell"), _p(ctx, expected, "cell"), measured, _tick_box()]
+        )
+
+    r_lo, r_hi = _band(pr.phase_resistance_ohm, RESISTANCE_BAND_PCT)
+    for ph in lay.phase_names:
+        t1, t2 = _terminals(ph)
+        add(
+            "phase resistance",
+            f"{t1} to {t2}, before the "
+            + (
+                "star point is made"
+                if spec.connection.kind == "star"
+                else "delta is closed"
+                if lay.phases == 3
+                else "bridge is connected"
+            ),
+            f"{_fmt_ohm(pr.phase_resistance_ohm)} ({r_lo:.3f} to {r_hi:.3f} {ohm}) at 20 °C",
+            f"______ {ohm}",
+        )
+    if lay.phases == 3:
+        add("phases match", "the three phase resistances", f"within {PHASE_MATCH_PCT} % of each other")
+    test_v = insulation_test_v(pr)
+    add(
+        "insulation",
+        "windings (all terminals joined) to the frame, discs and mounting studs"
+        + ("; and phase to phase before they are joined" if lay.phases == 3 else ""),
+        f"at least {INSULATION_MIN_MOHM:g} M{ohm} with an insulation tester at {test_v} V DC",
+        f"______ M{ohm}",
+    )
+    ll = line_resistance_ohm(pr.phase_resistance_ohm, spec.connection.kind)
+    words = {
+        "star": "U1-V1, V1-W1, W1-U1 (two phases in series)",
+        "delta": "L1-L2, L2-L3, L3-L1 (one phase across the other two)",
+    }.get(spec.connection.kind, "")
+    if spec.connection.kind == "delta":
+        pairs = ("L1-L2", "L2-L3", "L3-L1")
+    elif lay.phases == 3:
+        pairs = ("U1-V1", "V1-W1", "W1-U1")
+    else:
+        pairs = ("U1-U2",)
+
+    def blanks(unit: str) -> str:
+        """One line to write on for each pair of terminals."""
+        return "\n".join(f"{pair} ______ {unit}" for pair in pairs)
+
+    if ll is not None:
+        lo, hi = _band(ll, RESISTANCE_BAND_PCT)
+        add(
+            "joined",
+            f"line to line, {words}",
+            f"{_fmt_ohm(ll)} ({lo:.3f} to {hi:.3f} {ohm}) each",
+            blanks(ohm),
+        )
+    joined = {"star": "star point made, ", "delta": "delta closed, "}.get(spec.connection.kind, "")
+    per_rpm = pr.open_circuit_line_rms_v / ta.rated_rpm
+    for rpm in _bench_speeds(d):
+        v = per_rpm * rpm
+        lo, hi = _band(v, OPEN_CIRCUIT_BAND_PCT)
+        hz = electrical_hz(lay.pole_pairs, rpm)
+        add(
+            f"open circuit at {rpm:g} rpm",
+            f"AC volts across the terminals, {joined}nothing else connected; the speed reads as "
+            f"{hz:.1f} Hz on the meter's frequency range",
+            f"{v:.1f} V rms ({lo:.1f} to {hi:.1f} V)",
+            blanks("V"),
+        )
+    if lay.phases == 3:
+        add(
+            "voltages match",
+            "the three line voltages at one speed",
+            f"within {PHASE_MATCH_PCT} %; one low pair points to a coil connected the wrong way round",
+        )
+    if ta.kind == "battery":
+        add(
+            "cut-in",
+            "battery connected through the bridge and fuse; raise the speed slowly",
+            f"charging current starts near {pr.cut_in_rpm:.0f} rpm",
+            "______ rpm",
+        )
+    else:
+        rated = pr.rated
+        add(
+            "rated load",
+            f"the rated load connected, at {ta.rated_rpm:g} rpm",
+            f"{rated.dc_voltage_v:.1f} V, {rated.dc_current_a:.2f} A",
+            "______ V",
+        )
+    binder_max = STATOR_BINDERS_MAX_C[spec.stator.binder]
+    add(
+        "heat",
+        "stator surface after 30 minutes at rated speed and load",
+        f"about {pr.rated.coil_temperature_c:.0f} °C (rough estimate); stop above {binder_max:g} °C "
+        f"({spec.stator.binder})",
+        "______ °C",
+    )
+    add(
+        "rotor",
+        "first spins by hand, then slowly under power: rub, wobble, noise",
+        f"the running clearance ({spec.rotor.running_clearance_mm:g} mm) all the way round; no rubbing",
+    )
+    widths = [29 * MM, 52 * MM, 51 * MM, 38 * MM]
+    widths.append(ctx.frame_w - sum(widths))
+    out.append(_table(ctx, rows, widths))
+    out.append(
+        _p(
+            ctx,
+            f"Open-circuit voltage rises in proportion to speed: {1000 * per_rpm:.1f} V per 1000 rpm here, "
+            f"{pr.open_circuit_line_rms_at_max_v:.0f} V at {ta.max_rpm:g} rpm.",
+            "small",
+        )
+    )
+    out.append(_pm(ctx, f"<b>{escape(DEFER)}</b>", "body"))
+    return out

@@ -1,0 +1,152 @@
+"""Page 1, the summary: what the machine is and does, the files of the package, and the
+cautions with the design's own warnings.
+"""
+
+from __future__ import annotations
+
+from xml.sax.saxutils import escape
+
+from fab.sheet.document import MM, Files, _Ctx, _fmt_ohm, _key_value_table, _p, _pm, _table
+from fab.sheet.words import DEFER, _magnet_words, _wire_words
+from layout.design import Design
+
+
+def _topology_words(design: Design) -> str:
+    return {
+        "two_discs": "two magnet discs either side of a coreless stator",
+        "one_disc_steel_stator": "one magnet disc over a steel-backed stator",
+        "one_disc_coreless": "one magnet disc beside a coreless stator",
+    }[design.spec.rotor.topology]
+
+
+def _connection_words(design: Design) -> str:
+    k = design.spec.connection.kind
+    a = design.layout.parallel_paths
+    paths = f", {a} parallel paths per phase" if a > 1 else ""
+    return {"star": "star (Y)", "delta": "delta", "single_phase": "single phase"}[k] + paths
+
+
+def _target_words(design: Design) -> str:
+    ta = design.spec.target
+    if ta.kind == "battery":
+        return f"charge a {ta.battery_v:g} V battery through a diode bridge"
+    if ta.kind == "dc":
+        return f"{ta.voltage_v:g} V DC at {ta.rated_current_a:g} A through a diode bridge"
+    return f"{ta.voltage_v:g} V AC line at {ta.rated_current_a:g} A, no rectifier"
+
+
+def _cut_in_words(design: Design) -> str:
+    pr, ta = design.prediction, design.spec.target
+    if ta.kind == "ac_line":
+        return f"{pr.cut_in_rpm:.0f} rpm: the open-circuit line voltage reaches {ta.voltage_v:g} V rms"
+    why = " (battery plus two diode drops)" if ta.kind == "battery" else " (target plus two diode drops)"
+    return (
+        f"{pr.cut_in_rpm:.0f} rpm: the rectified open-circuit voltage reaches {pr.cut_in_voltage_v:.1f} V"
+        + why
+    )
+
+
+def _caution_group(code: str) -> str:
+    if code.startswith("coil.") or code == "magnet.temperature":
+        return "Heat"
+    if code.startswith("magnet."):
+        return "Magnets"
+    if code.startswith("voltage."):
+        return "Voltage"
+    if code.startswith(("rotor.", "disc.", "layout.")):
+        return "Rotating parts"
+    return "Design"
+
+
+# Bench rules that hold for every machine; the design's own warnings follow each.
+_CAUTIONS = (
+    (
+        "Magnets",
+        "Work on a bench with no steel on it, one magnet at a time; keep magnets in their "
+        "spacers until they go in, away from phones, cards and watches.",
+    ),
+    (
+        "Rotating parts",
+        "Fit the guard before the rotor turns under power; never reach towards the discs "
+        "while anything can turn them.",
+    ),
+    (
+        "Voltage",
+        "The terminals are live whenever the rotor turns: stop and secure it before touching "
+        "the wiring, and insulate every joint.",
+    ),
+    (
+        "Heat",
+        "Coils, rectifier and load get hot: mount the bridge on a heat sink and check the "
+        "stator's temperature in the first long runs (see the test plan).",
+    ),
+)
+
+
+def _summary(ctx: _Ctx, files: Files | None) -> list:
+    d = ctx.design
+    spec, lay, pr = d.spec, d.layout, d.prediction
+    ta = spec.target
+    rated = pr.rated
+    out = [_p(ctx, f"{spec.name}: build sheet", "h1"), _p(ctx, spec.purpose)]
+    phase_v = "" if lay.phases == 1 else f" ({pr.open_circuit_phase_rms_v:.1f} V per phase)"
+    line = "line" if lay.phases == 3 else "terminal"
+    output_kind = "AC line" if ta.kind == "ac_line" else "DC"
+    rows = [
+        (
+            "machine",
+            f"{_topology_words(d)}; {lay.coil_positions} coil positions, {len(lay.coils)} coils wound",
+        ),
+        ("magnets", f"{lay.magnets} per disc: {_magnet_words(d)}"),
+        (
+            "winding",
+            f"{lay.phases}-phase, {_connection_words(d)}; winding factor {lay.winding_factor:.3f}; "
+            f"{pr.turns_per_coil} turns of {_wire_words(d)} per coil",
+        ),
+        ("target", _target_words(d)),
+        (
+            f"open-circuit voltage at {ta.rated_rpm:g} rpm",
+            f"{pr.open_circuit_line_rms_v:.1f} V {line} rms{phase_v}; "
+            f"{pr.open_circuit_line_rms_at_max_v:.0f} V at {ta.max_rpm:g} rpm (the highest speed)",
+        ),
+        ("cut-in", _cut_in_words(d)),
+        (
+            f"rated output at {rated.rpm:g} rpm",
+            f"{rated.dc_voltage_v:.1f} V, {rated.dc_current_a:.2f} A, {rated.dc_power_w:.0f} W {output_kind}",
+        ),
+        ("efficiency at rated speed", f"{rated.efficiency:.0%} (copper and rectifier losses)"),
+        (
+            "phase resistance at 20 °C",
+            f"{_fmt_ohm(pr.phase_resistance_ohm)} per phase; {_fmt_ohm(pr.coil_resistance_ohm)} per coil",
+        ),
+        ("electrical frequency", f"{pr.electrical_hz_at_rated:.1f} Hz at {ta.rated_rpm:g} rpm"),
+    ]
+    out.append(_key_value_table(ctx, rows, 52 * MM))
+    out.append(_p(ctx, "Files in the package", "h2"))
+    if files:
+        head = [_p(ctx, h, "cell") for h in ("file", "what it is", "how to make it")]
+        body = [[_p(ctx, f, "cell"), _p(ctx, w, "cell"), _p(ctx, h, "cell")] for f, w, h in files]
+        w0 = 48 * MM
+        w1 = (ctx.frame_w - w0) * 0.45
+        out.append(_table(ctx, [head, *body], [w0, w1, ctx.frame_w - w0 - w1]))
+    else:
+        out.append(
+            _p(
+                ctx,
+                "This sheet was written on its own. statorsmith build writes it together with the "
+                "part files (STEP, STL, DXF), the balance plan and a manifest.",
+            )
+        )
+    out.append(_p(ctx, "Cautions", "h2"))
+    by_group: dict[str, list[str]] = {}
+    order = {"danger": 0, "warning": 1, "info": 2}
+    for w in sorted(d.warnings, key=lambda w: order[w.severity]):
+        by_group.setdefault(_caution_group(w.code), []).append(f"{w.severity.upper()}: {w.message}")
+    for group, rule in _CAUTIONS:
+        out.append(_pm(ctx, f"<b>{escape(group)}.</b> {escape(rule)}", "caution"))
+        out.extend(_p(ctx, m, "caution") for m in by_group.get(group, ()))
+    if by_group.get("Design"):
+        out.append(_pm(ctx, "<b>Design.</b> What to change before building:", "caution"))
+        out.extend(_p(ctx, m, "caution") for m in by_group["Design"])
+    out.append(_pm(ctx, f"<b>{escape(DEFER)}</b>", "body"))
+    return out
