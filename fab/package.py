@@ -32,7 +32,7 @@ from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
-from fab import OutputError
+from fab import OutputError, ordinary_permissions
 from fab.catalogue import Builder, Item, catalogue, safety_text, write_step, write_stl  # noqa: F401
 from fab.fit import check_parts
 from layout.design import Design, compute_design
@@ -350,9 +350,7 @@ def _make_tmp(target: Path) -> Path:
         tmp = Path(tempfile.mkdtemp(prefix=f"{_tmp_prefix(target)}{os.getpid()}-", dir=target.parent))
     except OSError as exc:
         raise OutputError(f"{target.parent}: cannot write here ({exc.strerror or exc})") from None
-    umask = os.umask(0)
-    os.umask(umask)
-    os.chmod(tmp, 0o777 & ~umask)  # an ordinary folder once installed, not mkdtemp's private one
+    ordinary_permissions(tmp, folder=True)  # an ordinary folder once installed, not mkdtemp's private one
     return tmp
 
 

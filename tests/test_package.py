@@ -347,3 +347,11 @@ def test_the_next_build_cleans_up_after_a_killed_one(tmp_path):
     aside.mkdir()
     assert pkg.recover(folder) == [f"removed {aside.name}, a package already replaced"]
     unchanged(folder, before)
+
+
+def test_every_file_of_the_package_reads_like_the_others(millrace_package):
+    # mkstemp makes 0600 files; the sheet must not be the one file another user cannot read.
+    umask = os.umask(0)
+    os.umask(umask)
+    modes = {p.name: p.stat().st_mode & 0o777 for p in millrace_package.folder.iterdir()}
+    assert set(modes.values()) == {0o666 & ~umask}, modes

@@ -27,6 +27,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from xml.sax.saxutils import escape
 
+from fab import ordinary_permissions
 from fab.sheet.balance_materials import _balance_and_materials, _balance_report, _materials_rows
 from fab.sheet.bench_tests import _bench_speeds, _test_plan
 from fab.sheet.build import _build
@@ -179,6 +180,7 @@ def write_sheet(
     os.close(fd)
     try:
         _build(design, tmp, paper, balance, files, date)
+        ordinary_permissions(tmp)  # mkstemp's 0600 would make the sheet the one unreadable file
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)

@@ -140,8 +140,7 @@ def _test_plan(ctx: _Ctx) -> list:
     add(
         "heat",
         "stator surface after 30 minutes at rated speed and load",
-        f"about {pr.rated.coil_temperature_c:.0f} °C (rough estimate); stop above {binder_max:g} °C "
-        f"({spec.stator.binder})",
+        f"{pr.rated.temperature_words} (rough estimate); stop above {binder_max:g} °C ({spec.stator.binder})",
         "______ °C",
     )
     add(
