@@ -34,6 +34,11 @@ class Design:
         """k_p of the coils as shaped, legs' centres `span_deg` apart."""
         return span_pitch_factor(self.layout.pole_pairs, math.radians(self.geometry.coil.span_deg))
 
+    @property
+    def winding_factor_as_built(self) -> float:
+        """k_w of this coreless stator: k_d times the pitch factor of the coils as shaped."""
+        return self.geometric_pitch_factor * self.layout.distribution_factor
+
 
 def winding_layout(spec: Spec) -> Layout:
     """The layout the design asks for; a DesignError if it cannot work, saying what would."""

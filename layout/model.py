@@ -109,10 +109,11 @@ class OperatingPoint:
 
     @property
     def temperature_words(self) -> str:
-        """The coil temperature for a reader: "about 66 °C", or where the estimate stops."""
+        """The coil temperature for a reader, with what it is worth: "about 66 °C (rough
+        estimate)", or where the estimate stops."""
         if self.temperature_over_cap:
             return f"over {TEMPERATURE_CAP_C:g} °C (the estimate means nothing there)"
-        return f"about {self.coil_temperature_c:.0f} °C"
+        return f"about {self.coil_temperature_c:.0f} °C (rough estimate)"
 
 
 @dataclass(frozen=True)

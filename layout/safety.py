@@ -97,8 +97,8 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
         add(
             "coil.temperature",
             "warning",
-            f"Coils reach {rated.temperature_words} at {rated.rpm:g} rpm (rough "
-            f"estimate), over the {binder_max:g} °C that {spec.stator.binder} takes: it softens "
+            f"Coils reach {rated.temperature_words} at {rated.rpm:g} rpm, over the "
+            f"{binder_max:g} °C that {spec.stator.binder} takes: it softens "
             "and coils shift. Use thicker wire (fewer turns with more magnet), a bigger coil "
             "window, or a lower rated speed.",
         )
@@ -106,8 +106,8 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
         add(
             "coil.overspeed_heat",
             "warning",
-            f"Loaded at {top.rpm:g} rpm the coils would reach {top.temperature_words} "
-            f"(rough estimate), over the {binder_max:g} °C of {spec.stator.binder}: limit the "
+            f"Loaded at {top.rpm:g} rpm the coils would reach {top.temperature_words}, over the "
+            f"{binder_max:g} °C of {spec.stator.binder}: limit the "
             "current above the rated speed (controller, furling, governor) or it burns out.",
         )
     cast = spec.stator.binder in ("epoxy", "polyester")

@@ -127,22 +127,23 @@ def coil_place(design: Design, index: int) -> Path:
     return polygon(hole).moved(360.0 * (index - 1) / geo.positions)
 
 
+def _bore_and_lugs(
+    design: Design, sl: StatorLayout, bore_radius_mm: float, what: str, g: float
+) -> list[Feature]:
+    """The bore and the mounting holes that the stator and its steel plate share."""
+    bore = Feature(
+        "bore", circle(0, 0, bore_radius_mm - g), what, "stator.resin_rim_mm", design.spec.stator.resin_rim_mm
+    )
+    return [bore, *_lug_holes(sl, g)]
+
+
 def stator_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
     """The cast stator seen from above: rim with lugs, bore, mounting holes and the window
     each coil's place leaves. Also the cavity of the mould and the frame cut round it."""
     spec, geo = design.spec, design.geometry
     sl = stator_layout(design)
     g = kerf_mm / 2
-    holes = [
-        Feature(
-            "bore",
-            circle(0, 0, sl.inner_radius_mm - g),
-            "stator bore",
-            "stator.resin_rim_mm",
-            spec.stator.resin_rim_mm,
-        )
-    ]
-    holes += _lug_holes(sl, g)
+    holes = _bore_and_lugs(design, sl, sl.inner_radius_mm, "stator bore", g)
     for idx in geo.coil_indices:
         holes.append(
             Feature(
@@ -272,16 +273,7 @@ def stator_plate_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
     spec = design.spec
     sl = stator_layout(design)
     g = kerf_mm / 2
-    holes = [
-        Feature(
-            "bore",
-            circle(0, 0, sl.plate_inner_radius_mm - g),
-            "plate bore",
-            "stator.resin_rim_mm",
-            spec.stator.resin_rim_mm,
-        )
-    ]
-    holes += _lug_holes(sl, g)
+    holes = _bore_and_lugs(design, sl, sl.plate_inner_radius_mm, "plate bore", g)
     jack = jacking(design)
     if jack is not None and jack.on == "stator plate":
         for k, a in enumerate(jack.angles_deg, start=1):

@@ -140,7 +140,7 @@ def _test_plan(ctx: _Ctx) -> list:
     add(
         "heat",
         "stator surface after 30 minutes at rated speed and load",
-        f"{pr.rated.temperature_words} (rough estimate); stop above {binder_max:g} °C ({spec.stator.binder})",
+        f"{pr.rated.temperature_words}; stop above {binder_max:g} °C ({spec.stator.binder})",
         "______ °C",
     )
     add(

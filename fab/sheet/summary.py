@@ -100,7 +100,7 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
         ("magnets", f"{lay.magnets} per disc: {_magnet_words(d)}"),
         (
             "winding",
-            f"{lay.phases}-phase, {_connection_words(d)}; winding factor {lay.winding_factor:.3f}; "
+            f"{lay.phases}-phase, {_connection_words(d)}; winding factor {d.winding_factor_as_built:.3f}; "
             f"{pr.turns_per_coil} turns of {_wire_words(d)} per coil",
         ),
         ("target", _target_words(d)),
