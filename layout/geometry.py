@@ -153,7 +153,8 @@ def coil_shape(spec: Spec, z_min_mm: float, z_max_mm: float) -> CoilShape:
         raise spec.fail(
             "stator.leg_width_mm",
             st.leg_width_mm,
-            f"neighbouring coils would touch; at most {leg_max:.1f} "
+            # rounded down, so the bound quoted is itself allowed
+            f"neighbouring coils would touch; at most {math.floor(leg_max * 100) / 100:.2f} "
             f"with stator.coil_clearance_mm = {st.coil_clearance_mm:g}",
         )
     if leg < MIN_LEG_WIDTH_MM:

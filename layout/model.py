@@ -15,7 +15,7 @@ from layout.circuit import BridgeRating, Load, bridge_rating, simulate_rectifier
 from layout.emf import PhaseEmf, rms, thd
 from layout.geometry import Geometry
 from layout.materials import COPPER_DENSITY_G_CM3
-from layout.spec import Spec
+from layout.spec import Spec, unit_slip_hint
 from layout.winding import Layout, electrical_hz
 from layout.wire import (
     Wire,
@@ -266,7 +266,7 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
             "stator.wire_standard",
             spec.stator.wire_standard,
             f"no standard wire fits {turns} turns in the coil window; "
-            "raise stator.thickness_mm or magnets.pitch_radius_mm",
+            "raise stator.thickness_mm or magnets.pitch_radius_mm" + unit_slip_hint(spec),
         )
     wire, r_coil, l_coil, r_phase, l_phase = cu
     cut_in = v_cut / (per_turn_peak * turns) * 60 / (2 * math.pi)
@@ -414,7 +414,7 @@ def _fewest_turns(spec, volts, start: float) -> int:
                 target,
                 f"this machine gives at most about {best:.1f} V at {spec.target.rated_current_a:g} A "
                 f"and {spec.target.rated_rpm:g} rpm; lower the current, raise the speed or use "
-                "larger magnets",
+                "larger magnets" + unit_slip_hint(spec),
             )
         lo, v_prev, hi = hi, v, max(hi + 1, math.ceil(hi * 1.3))
     while hi - lo > 1:

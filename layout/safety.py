@@ -11,7 +11,7 @@ from dataclasses import dataclass
 from layout.forces import HOOP_SAFETY_FACTOR, JACKING_FORCE_N, STEEL_B_LIMIT_T, Forces, G
 from layout.materials import DISC_MATERIALS, MAGNET_GRADES, STATOR_BINDERS_MAX_C
 from layout.model import Prediction
-from layout.spec import Spec
+from layout.spec import Spec, unit_slip_hint
 from layout.winding import Layout
 
 # Extra-low voltage limits, IEC 61140: 50 V AC rms, 120 V ripple-free DC.
@@ -191,6 +191,13 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
             "warning",
             f"Efficiency at {rated.rpm:g} rpm is {rated.efficiency:.0%}: copper and rectifier "
             "losses eat the output. Raise the cut-in speed, use thicker wire or stronger magnets.",
+        )
+    slip = unit_slip_hint(spec)
+    if slip:
+        add(
+            "input.units",
+            "warning",
+            f"Check the units of the design file{slip}; every figure here follows from them.",
         )
     add(
         "rotor.spinning",

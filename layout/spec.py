@@ -74,6 +74,9 @@ def rule(
     return field(default=default, metadata=meta)
 
 
+_IN_MM = "in mm; 1 inch is 25.4 mm"
+
+
 @dataclass(frozen=True)
 class StatorSpec:
     phases: int = rule(ge=1, le=3, why="1 (single phase) or 3 (three phase)")
@@ -100,11 +103,11 @@ class StatorSpec:
 class MagnetSpec:
     count: int = rule(ge=2, le=200, even=True, why="must be even (magnets alternate N/S)")
     shape: str = rule(choices=("block", "disc"))
-    thickness_mm: float = rule(ge=0.5, le=100)
-    pitch_radius_mm: float = rule(ge=5, le=2000)
-    length_mm: float | None = rule(None, ge=1, le=500)
-    width_mm: float | None = rule(None, ge=1, le=500)
-    diameter_mm: float | None = rule(None, ge=1, le=500)
+    thickness_mm: float = rule(ge=0.5, le=100, why=_IN_MM)
+    pitch_radius_mm: float = rule(ge=5, le=2000, why=_IN_MM)
+    length_mm: float | None = rule(None, ge=1, le=500, why=_IN_MM)
+    width_mm: float | None = rule(None, ge=1, le=500, why=_IN_MM)
+    diameter_mm: float | None = rule(None, ge=1, le=500, why=_IN_MM)
     grade: str | None = rule(None, choices=MAGNET_GRADES)
     remanence_t: float | None = rule(None, ge=0.1, le=1.6, why="hard ferrite about 0.4 T, NdFeB 1.2–1.5 T")
     max_temperature_c: float | None = rule(None, gt=20, le=350)
@@ -145,7 +148,7 @@ class TargetSpec:
     kind: str = rule(choices=("battery", "dc", "ac_line"))
     rated_rpm: float = rule(ge=1, le=20000)
     max_rpm: float = rule(ge=1, le=20000)
-    battery_v: float | None = rule(None, ge=1, le=1000)
+    battery_v: float | None = rule(None, ge=1, le=1000, why="in volts, not millivolts")
     cut_in_rpm: float | None = rule(None, ge=1, le=20000)
     battery_resistance_ohm: float = rule(0.05, ge=0.001, le=100)
     voltage_v: float | None = rule(None, ge=1, le=10000)
@@ -382,6 +385,20 @@ def _check_consistency(spec: Spec) -> None:
             mg.pitch_radius_mm,
             f"magnets reach into the bore (rotor.bore_diameter_mm = {ro.bore_diameter_mm:g})",
         )
+
+
+def unit_slip_hint(spec: Spec) -> str:
+    """A hint when the design's figures look like another unit than the keys ask for, else ""."""
+    mg, ta = spec.magnets, spec.target
+    sizes = [v for v in (mg.length_mm, mg.width_mm, mg.diameter_mm, mg.thickness_mm) if v is not None]
+    hints = []
+    if max(sizes) < 4:
+        hints.append("the magnet sizes look like inches: give them in mm")
+    if ta.max_rpm < 25:
+        hints.append("the speeds look like revolutions per second: give them in rpm")
+    if mg.pitch_radius_mm < 20 and max(sizes) < 4:
+        hints.append("magnets.pitch_radius_mm looks like inches too")
+    return ("; " + "; ".join(hints)) if hints else ""
 
 
 MIN_POCKET_FLOOR_MM = 1.0  # thinner floors tear out of a printed or milled disc (common practice)

@@ -7,6 +7,7 @@ from pathlib import Path
 
 import pytest
 
+from layout.design import compute_design
 from layout.spec import DesignError, load_spec
 
 DESIGNS = Path(__file__).resolve().parents[1] / "designs"
@@ -293,3 +294,43 @@ def test_values_where_the_model_means_nothing_are_refused(tmp_path, old, new, ke
     path = tmp_path / BAD_NAME
     path.write_text(edited("pedalbox", old, new), encoding="utf-8")
     assert one_line_error(path).startswith(f"{BAD_NAME}: {key} = ")
+
+
+def test_leg_width_bound_quoted_is_itself_allowed(tmp_path):
+    import re
+
+    path = tmp_path / BAD_NAME
+    path.write_text(
+        edited("millrace", "coil_clearance_mm = 1.5", "coil_clearance_mm = 1.5\nleg_width_mm = 40")
+    )
+    with pytest.raises(DesignError, match="at most") as info:
+        compute_design(load_spec(path))
+    bound = re.search(r"at most ([0-9.]+)", str(info.value)).group(1)
+    path.write_text(
+        edited("millrace", "coil_clearance_mm = 1.5", f"coil_clearance_mm = 1.5\nleg_width_mm = {bound}")
+    )
+    compute_design(load_spec(path))  # the figure the message gave is accepted
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "hint"),
+    [
+        # A magnet 1.5 x 0.75 in typed as millimetres: refused with the unit named.
+        ("width_mm = 20.0", "width_mm = 0.75", "1 inch is 25.4 mm"),
+        # 5 revolutions a second typed as rpm: the machine cannot reach its voltage, and says why.
+        ("rated_rpm = 300.0\nmax_rpm = 550.0", "rated_rpm = 5.0\nmax_rpm = 9.0", "revolutions per second"),
+        ("battery_v = 48.0", "battery_v = 48000.0", "not millivolts"),
+    ],
+)
+def test_likely_unit_slips_get_a_hint(tmp_path, old, new, hint):
+    text = edited("millrace", old, new)
+    if "rated_rpm = 5.0" in new:
+        text = text.replace("cut_in_rpm = 210.0", "cut_in_rpm = 3.5")
+    path = tmp_path / BAD_NAME
+    path.write_text(text, encoding="utf-8")
+    try:
+        d = compute_design(load_spec(path))
+    except DesignError as exc:
+        assert hint in str(exc)
+    else:  # a design that still computes says it as a warning
+        assert any(w.code == "input.units" and hint in w.message for w in d.warnings)
