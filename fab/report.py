@@ -369,7 +369,7 @@ def _output_text(design: Design) -> str:
         "I_line_a" if ac else "I_dc_a",
         "P_w",
         "copper_w",
-        "rectifier_w",
+        *([] if ac else ["rectifier_w"]),  # a line load has no bridge
         "efficiency",
         "A/mm2",
         "coil_c",
@@ -381,7 +381,7 @@ def _output_text(design: Design) -> str:
             op.dc_current_a,
             op.dc_power_w,
             op.copper_loss_w,
-            op.rectifier_loss_w,
+            *([] if ac else [op.rectifier_loss_w]),
             op.efficiency,
             op.current_density_a_mm2,
             f">{TEMPERATURE_CAP_C:g}" if op.temperature_over_cap else int(round(op.coil_temperature_c)),

@@ -19,10 +19,13 @@ def _curves(ctx: _Ctx) -> list:
     speed = {
         "xlabel": "rpm",
         "xlim": (min(rpm), max(rpm)),
-        "vmarks": [
-            _Mark(pr.cut_in_rpm, f"cut-in {pr.cut_in_rpm:.0f} rpm", _DASH_DOT),
-            _Mark(ta.rated_rpm, f"rated {ta.rated_rpm:g} rpm", _DASHED),
-        ],
+        # Cut-in is defined by a battery only; a resistor or a line draws current from the start.
+        "vmarks": (
+            [_Mark(pr.cut_in_rpm, f"cut-in {pr.cut_in_rpm:.0f} rpm", _DASH_DOT)]
+            if ta.kind == "battery"
+            else []
+        )
+        + [_Mark(ta.rated_rpm, f"rated {ta.rated_rpm:g} rpm", _DASHED)],
     }
     line = "line" if lay.phases == 3 else "terminal"
     oc = [_Series(f"open circuit, {line} rms", rpm, [op.open_circuit_line_rms_v for op in pts], _SOLID, "o")]
@@ -52,7 +55,7 @@ def _curves(ctx: _Ctx) -> list:
     ]
     if len(loaded) >= 2:
         eff = _Series(
-            "output / (output + copper and rectifier losses)",
+            "output / (output + copper losses)" if ac else "output / (output + copper and rectifier losses)",
             [op.rpm for op in loaded],
             [100 * op.efficiency for op in loaded],
             _SOLID,

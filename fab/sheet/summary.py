@@ -109,7 +109,7 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
             f"{pr.open_circuit_line_rms_v:.1f} V {line} rms{phase_v}; "
             f"{pr.open_circuit_line_rms_at_max_v:.0f} V at {ta.max_rpm:g} rpm (the highest speed)",
         ),
-        ("cut-in", _cut_in_words(d)),
+        *([("cut-in", _cut_in_words(d))] if ta.kind == "battery" else []),
         (
             f"rated output at {rated.rpm:g} rpm",
             f"{rated.dc_voltage_v:.1f} V, {rated.dc_current_a:.2f} A, {rated.dc_power_w:.0f} W {output_kind}",
