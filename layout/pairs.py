@@ -9,7 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from layout.winding import (
-    _balanced_rows,
+    _is_balanced,
     _phasors_deg,
     _single_phase,
     _three_phase,
@@ -60,7 +60,7 @@ def _reduced(q: int, phases: int) -> tuple[bool, float, float]:
     theta = _phasors_deg(q, 1, np.arange(q))
     if phases == 3:
         _phase, _sign, sums, counts = _three_phase(theta)
-        balanced = bool(_balanced_rows(sums[None], counts[None])[0])
+        balanced = _is_balanced(sums, counts)
     else:
         _phase, _sign, sums, counts = _single_phase(theta)
         balanced = True

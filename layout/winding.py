@@ -40,6 +40,8 @@ def electrical_hz(pole_pairs: int, rpm):
 
 # Belt b (60° wide, counted from the offset) → (phase index, polarity).
 _BELTS = ((0, +1), (1, -1), (2, +1), (0, -1), (1, +1), (2, -1))
+_BELT_PHASE = np.array([b[0] for b in _BELTS])
+_BELT_SIGN = np.array([b[1] for b in _BELTS])
 _ANGLE_TOL_DEG = 0.1  # phases 120° apart within this
 _REL_TOL = 1e-6
 
@@ -122,40 +124,13 @@ def _phasors_deg(q: int, p: int, active: np.ndarray) -> np.ndarray:
     return np.mod(-p * 360.0 * active / q, 360.0)
 
 
-def _belt_assignment(theta_deg: np.ndarray, offset_deg: float) -> tuple[np.ndarray, np.ndarray]:
-    belt = np.floor(np.mod(theta_deg - offset_deg, 360.0) / 60.0).astype(int) % 6
-    belt = (belt - belt[0]) % 6  # the first coil defines +A
-    phase = np.array([_BELTS[b][0] for b in belt])
-    sign = np.array([_BELTS[b][1] for b in belt])
-    return phase, sign
-
-
-def _phase_sums(theta_deg, phase, sign, n_phases) -> np.ndarray:
-    u = sign * _unit(theta_deg)
-    return np.array([u[phase == k].sum() for k in range(n_phases)])
-
-
 def _is_balanced(sums: np.ndarray, counts: np.ndarray) -> bool:
-    if counts.min() == 0 or counts.min() != counts.max():
-        return False
-    mags = np.abs(sums)
-    if mags.min() <= _REL_TOL * counts[0] or (mags.max() - mags.min()) > _REL_TOL * mags.max():
-        return False
-    ang = np.degrees(np.angle(sums))
-    # B lags A by 120°, C lags A by 240°.
-    for k in (1, 2):
-        d = (ang[0] - ang[k] - 120.0 * k + 180.0) % 360.0 - 180.0
-        if abs(d) > _ANGLE_TOL_DEG:
-            return False
-    return True
-
-
-_BELT_PHASE = np.array([b[0] for b in _BELTS])
-_BELT_SIGN = np.array([b[1] for b in _BELTS])
+    """Equal counts, equal magnitudes, B 120° and C 240° behind A."""
+    return bool(_balanced_rows(sums[None], counts[None])[0])
 
 
 def _balanced_rows(sums: np.ndarray, counts: np.ndarray) -> np.ndarray:
-    """`_is_balanced` for each row of (n, 3) phase sums and counts at once."""
+    """For each row of (n, 3) phase sums and counts: equal counts and magnitudes, 120° apart."""
     cmin, cmax = counts.min(axis=1), counts.max(axis=1)
     mags = np.abs(sums)
     ok = (cmin > 0) & (cmin == cmax)
