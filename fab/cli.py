@@ -124,15 +124,31 @@ def pairs(phases, coils, magnets, sort, stator, balanced_only, as_json):
         click.echo(pairs_text(rows, int(phases), stator))
 
 
+def _progress():
+    """A progress line writer for stderr at a terminal; None when piped (quiet logs)."""
+    if not sys.stderr.isatty():
+        return None
+
+    def progress(step: str) -> None:
+        click.echo(f"  {step}", err=True)
+
+    return progress
+
+
 @cli.command()
 @click.argument("design", metavar="DESIGN.toml")
 @click.option("--json", "as_json", is_flag=True, help="print a JSON object for scripts")
-def plan(design, as_json):
+@click.option(
+    "--suggest",
+    is_flag=True,
+    help="for each warning, try changes through the model and list those that help (a few seconds)",
+)
+def plan(design, as_json, suggest):
     """Winding layout, predicted performance and warnings for one design."""
     from fab.fit import checked_design
     from fab.report import plan_json, plan_text, to_json
 
-    d = checked_design(design)
+    d = checked_design(design, suggest=suggest, progress=_progress())
     if as_json:
         click.echo(to_json(plan_json(d)))
     else:
@@ -152,13 +168,7 @@ def build(design, out):
     """The whole build package: drawings, solids, assembly, plan, manifest."""
     from fab.package import build_package
 
-    progress = None
-    if sys.stderr.isatty():
-
-        def progress(step: str) -> None:
-            click.echo(f"  {step}", err=True)
-
-    result = build_package(design, out, progress=progress)
+    result = build_package(design, out, progress=_progress())
     click.echo(f"written: {result.target} ({len(result.files)} files, {result.seconds:.1f} s)")
 
 
@@ -216,7 +226,7 @@ def sheet(design, out, paper):
     from fab.sheet import write_sheet
     from layout.balance import balance_rotor
 
-    d = checked_design(design)
+    d = checked_design(design, suggest=True, progress=_progress())
     target = Path(out) if out else Path("out") / d.spec.name / f"{d.spec.name}-sheet.pdf"
     rb = balance_rotor(d, disc_bodies(d), None)
     try:

@@ -27,6 +27,7 @@ from fab.outlines import (
     stator_layout,
     stator_plate_flat,
 )
+from layout.advice import with_suggestions
 from layout.design import Design, compute_design
 from layout.rotor import disc_count, is_steel_disc
 from layout.spec import load_spec
@@ -313,12 +314,16 @@ def check_parts(design: Design) -> None:
     check_flat(design, jig_cheek_flat(design))
 
 
-def checked_design(design_path) -> Design:
+def checked_design(design_path, suggest: bool = False, progress=None) -> Design:
     """Load, compute and check a design the way `build` does, for every command alike.
 
     The fit checks work on the numpy outlines (no CAD kernel), so `plan` refuses what `build`
-    would refuse, at the cost of about 0.1 s.
+    would refuse, at the cost of about 0.1 s. With `suggest`, the design carries the changes
+    that help its warnings, each re-run through the model and fit-checked (layout.advice;
+    a second or two per warning).
     """
     design = compute_design(load_spec(design_path))
     check_parts(design)
+    if suggest:
+        design = with_suggestions(design, check_parts, progress)
     return design

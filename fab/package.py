@@ -35,6 +35,7 @@ from pathlib import Path
 from fab import OutputError, ordinary_permissions
 from fab.catalogue import Builder, Item, catalogue, safety_text, write_step, write_stl  # noqa: F401
 from fab.fit import check_parts
+from layout.advice import advised_codes, with_suggestions
 from layout.design import Design, compute_design
 from layout.spec import load_spec
 
@@ -248,6 +249,9 @@ def build_package(
         design = compute_design(load_spec(design_path))
         say("checking the parts")
         check_parts(design)  # the checks plan, balance and sheet make too (fit.checked_design)
+        if advised_codes(design):
+            say("trying changes for the warnings")
+            design = with_suggestions(design, check_parts, lambda change: say(f"  trying {change}"))
         target = Path(out) if out is not None else Path("out") / design.spec.name
         for step in recover(target):
             say(step)

@@ -6,6 +6,7 @@ import json
 import math
 from collections.abc import Sequence
 
+from layout.advice import advised_codes
 from layout.design import Design
 from layout.forces import STEEL_B_LIMIT_T, G
 from layout.model import TEMPERATURE_CAP_C
@@ -270,8 +271,33 @@ def plan_json(design: Design) -> dict:
         "electrical": electrical_json(design),
         "magnetics": magnetics_json(design),
         "geometry": geometry_json(design),
-        "warnings": [{"code": w.code, "severity": w.severity, "message": w.message} for w in design.warnings],
+        "warnings": [_warning_json(design, w) for w in design.warnings],
     }
+
+
+def _suggestion_json(s) -> dict:
+    return {
+        "key": s.key,
+        "from": s.was,
+        "to": s.to,
+        "figure": _r(s.value),
+        "figure_now": _r(s.now),
+        "unit": s.unit,
+        "result": s.result,
+        "rated_power_w": _r(s.rated_power_w, 1),
+        "rated_power_now_w": _r(s.rated_power_now_w, 1),
+        "clears": s.clears,
+        "raises": list(s.brings),
+    }
+
+
+def _warning_json(design: Design, w) -> dict:
+    """One warning; "suggestions" is null unless they were computed (plan --suggest, build)."""
+    out = {"code": w.code, "severity": w.severity, "message": w.message}
+    out["suggestions"] = (
+        None if design.suggestions is None else [_suggestion_json(s) for s in design.suggestions_for(w.code)]
+    )
+    return out
 
 
 def _polarity_word(p: int) -> str:
@@ -421,11 +447,29 @@ def _magnetics_text(design: Design) -> str:
     return table(["forces", "value"], rows)
 
 
+def suggestion_lines(design: Design, code: str) -> list[str]:
+    """The checked changes for one warning, one line each; why there are none, if computed."""
+    if design.suggestions is None or code not in advised_codes(design):
+        return []
+    found = design.suggestions_for(code)
+    if not found:
+        return ["no change the model tried helps this figure enough to offer"]
+    return ["try " + s.words for s in found]
+
+
 def _warnings_text(design: Design) -> str:
     order = {"danger": 0, "warning": 1, "info": 2}
     ws = sorted(design.warnings, key=lambda w: order[w.severity])
     lines = ["Warnings and cautions"]
-    lines += [f"[{w.severity.upper()}] {w.code}: {w.message}" for w in ws]
+    for w in ws:
+        lines.append(f"[{w.severity.upper()}] {w.code}: {w.message}")
+        lines += [f"    {line}" for line in suggestion_lines(design, w.code)]
+    pending = advised_codes(design) if design.suggestions is None else ()
+    if pending:
+        lines.append(
+            f"{len(pending)} of these ({', '.join(pending)}) have changes the model can try: "
+            f"statorsmith plan --suggest {design.spec.source} re-runs it for each and lists those that help."
+        )
     lines.append(
         "This is a design aid: check every figure before building, and defer to local codes "
         "and licensed practice for anything connected to a building's wiring."

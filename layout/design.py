@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from layout.bill import Bill, materials_bill
 from layout.emf import CoilLinkage, FluxMap, coil_linkage, flux_map, phase_emf
@@ -14,6 +15,9 @@ from layout.pairs import balanced_alternatives
 from layout.safety import Warning, collect_warnings
 from layout.spec import Spec
 from layout.winding import Layout, layout_notes, span_pitch_factor, star_of_slots
+
+if TYPE_CHECKING:
+    from layout.advice import Suggestion
 
 
 @dataclass(frozen=True)
@@ -28,6 +32,11 @@ class Design:
     forces: Forces
     warnings: tuple[Warning, ...]
     bill: Bill
+    # Changes the model has re-run and found to help (layout.advice); None: not computed.
+    suggestions: tuple[Suggestion, ...] | None = None
+
+    def suggestions_for(self, code: str) -> tuple[Suggestion, ...]:
+        return tuple(s for s in self.suggestions or () if s.code == code)
 
     @property
     def geometric_pitch_factor(self) -> float:

@@ -1,4 +1,4 @@
-"""Warnings: what could hurt someone or the machine, each saying what to change.
+"""Warnings: what could hurt someone or the machine, and what to do about the danger.
 
 Severity: "danger" (can injure or kill), "warning" (the machine may fail or underperform),
 "info" (worth knowing). Codes are stable names for scripts.
@@ -86,8 +86,7 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
             "danger",
             f"The {mat.name} rotor disc reaches {forces.hoop_stress_mpa:.1f} MPa at {ta.max_rpm:g} rpm, "
             f"a safety factor of {forces.hoop_safety_factor:.1f} on {mat.strength_mpa:g} MPa "
-            f"(want {HOOP_SAFETY_FACTOR:g}); a burst disc throws fragments. Use a stronger "
-            "material, a thicker disc or a lower target.max_rpm.",
+            f"(want {HOOP_SAFETY_FACTOR:g}); a burst disc throws fragments.",
         )
     binder_max = STATOR_BINDERS_MAX_C[spec.stator.binder]
     rated = pred.rated
@@ -99,8 +98,7 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
             "warning",
             f"Coils reach {rated.temperature_words} at {rated.rpm:g} rpm, over the "
             f"{binder_max:g} °C that {spec.stator.binder} takes: it softens "
-            "and coils shift. Use thicker wire (fewer turns with more magnet), a bigger coil "
-            "window, or a lower rated speed.",
+            "and coils shift.",
         )
     if top.coil_temperature_c > binder_max and top.rpm > rated.rpm:
         add(
@@ -118,7 +116,7 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
             "warning",
             f"Current density at {rated.rpm:g} rpm is {rated.current_density_a_mm2:.1f} A/mm², above "
             f"the {limit:g} A/mm² rule of thumb for {'cast' if cast else 'open'} coils: they run "
-            "hot. Raise stator.fill_factor or stator.thickness_mm, or use parallel paths.",
+            "hot.",
         )
     grade_max = spec.magnets.max_temperature_c or (
         MAGNET_GRADES[spec.magnets.grade].max_temperature_c if spec.magnets.grade else 80.0
@@ -128,8 +126,7 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
             "magnet.temperature",
             "warning",
             f"Coils at {hot.temperature_words} sit a few mm from magnets rated to "
-            f"{grade_max:g} °C: they can lose strength for good. Choose a higher-temperature "
-            "grade (H, SH) or cut the copper loss.",
+            f"{grade_max:g} °C: they can lose strength for good.",
         )
     add(
         "magnet.pinch",
@@ -166,8 +163,7 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
             "steel.saturation",
             "warning",
             f"The steel {forces.steel_plate} carries about {forces.steel_peak_b_t:.2f} T, above "
-            f"{STEEL_B_LIMIT_T:g} T: it saturates and the output falls. Make it at least "
-            f"{forces.steel_needed_mm:.1f} mm thick.",
+            f"{STEEL_B_LIMIT_T:g} T: it saturates and the output falls.",
         )
     if layout.unbalanced_pull:
         add(
@@ -182,15 +178,22 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
             "turns.cut_in",
             "warning",
             f"With {pred.turns_per_coil} whole turns the cut-in is {pred.cut_in_rpm:.0f} rpm, "
-            f"not {ta.cut_in_rpm:g}: turns are too few to set it finely. Use more coils in series "
-            "(fewer parallel paths) or smaller magnets.",
+            f"not {ta.cut_in_rpm:g}: turns are too few to set it finely.",
         )
     if rated.efficiency < 0.7 and rated.dc_power_w > 0:
+        # Into a battery the winding's EMF is about cut-in/rpm of what it would be at the
+        # battery voltage, so the efficiency cannot much exceed that ratio whatever the wire.
+        why = (
+            f"; into a battery it is bounded by about cut-in over speed, here "
+            f"{pred.cut_in_rpm / rated.rpm:.0%}"
+            if ta.kind == "battery"
+            else ""
+        )
         add(
             "output.low_efficiency",
             "warning",
             f"Efficiency at {rated.rpm:g} rpm is {rated.efficiency:.0%}: copper and rectifier "
-            "losses eat the output. Raise the cut-in speed, use thicker wire or stronger magnets.",
+            f"losses eat the output{why}.",
         )
     slip = unit_slip_hint(spec)
     if slip:

@@ -297,6 +297,21 @@ def parse_spec(data: dict, source: str) -> Spec:
     return spec
 
 
+def with_value(spec: Spec, dotted: str, value: object) -> Spec:
+    """The design with one "section.key" changed, checked as the file would be.
+
+    Raises DesignError when the new value is out of range or breaks a rule that ties keys
+    together; the original spec is not touched.
+    """
+    section, key = dotted.split(".")
+    f = {f.name: f for f in dataclasses.fields(_SECTIONS[section])}[key]
+    number = _read_value(spec.source, dotted, value, f)
+    table = dataclasses.replace(getattr(spec, section), **{key: number})
+    new = dataclasses.replace(spec, **{section: table})
+    _check_consistency(new)
+    return new
+
+
 def _check_consistency(spec: Spec) -> None:
     """Rules that tie several keys together."""
     st, mg, ro, co, ta = spec.stator, spec.magnets, spec.rotor, spec.connection, spec.target

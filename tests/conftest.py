@@ -11,6 +11,35 @@ from pathlib import Path
 import pytest
 
 REPO = Path(__file__).resolve().parents[1]
+
+
+@dataclass
+class Result:
+    """What a shell sees of one command: its exit code and its two streams."""
+
+    returncode: int
+    stdout: str
+    stderr: str
+
+
+@pytest.fixture
+def run(capsys):
+    """Call fab.cli:main with these arguments; exit code and streams as a shell sees them."""
+    from fab.cli import main
+
+    def call(*args: object) -> Result:
+        capsys.readouterr()
+        try:
+            main([str(a) for a in args])
+            code = 0
+        except SystemExit as exc:
+            code = exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 1)
+        out, err = capsys.readouterr()
+        return Result(code, out, err)
+
+    return call
+
+
 OLD_ONLY = "stator_plate.dxf"  # a file a package can hold, but not millrace's: it must go
 
 

@@ -13,24 +13,15 @@ import math
 import subprocess
 import sys
 import tomllib
-from dataclasses import dataclass
 from importlib.metadata import entry_points
 from pathlib import Path
 
 import pytest
+from conftest import Result
 from test_spec import BAD_EDITS, BAD_FILES, BAD_NAME, DEMOS, DESIGNS, demo_text, edited
-
-from fab.cli import main
 
 REPO = Path(__file__).resolve().parents[1]
 HEAVY = {"cadquery", "OCP", "reportlab", "ezdxf"}
-
-
-@dataclass
-class Result:
-    returncode: int
-    stdout: str
-    stderr: str
 
 
 def run_process(*args: object) -> Result:
@@ -42,23 +33,6 @@ def run_process(*args: object) -> Result:
         timeout=60,
     )
     return Result(done.returncode, done.stdout, done.stderr)
-
-
-@pytest.fixture
-def run(capsys):
-    """Call fab.cli:main with these arguments; exit code and streams as a shell sees them."""
-
-    def call(*args: object) -> Result:
-        capsys.readouterr()
-        try:
-            main([str(a) for a in args])
-            code = 0
-        except SystemExit as exc:
-            code = exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 1)
-        out, err = capsys.readouterr()
-        return Result(code, out, err)
-
-    return call
 
 
 @pytest.fixture

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 from xml.sax.saxutils import escape
 
+from fab.report import suggestion_lines
 from fab.sheet.document import MM, Files, _Ctx, _fmt_ohm, _key_value_table, _p, _pm, _table
 from fab.sheet.words import DEFER, _magnet_words, _wire_words
 from layout.design import Design
@@ -141,7 +142,9 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
     by_group: dict[str, list[str]] = {}
     order = {"danger": 0, "warning": 1, "info": 2}
     for w in sorted(d.warnings, key=lambda w: order[w.severity]):
-        by_group.setdefault(_caution_group(w.code), []).append(f"{w.severity.upper()}: {w.message}")
+        group = by_group.setdefault(_caution_group(w.code), [])
+        group.append(f"{w.severity.upper()}: {w.message}")
+        group.extend(f"– {line}" for line in suggestion_lines(d, w.code))
     for group, rule in _CAUTIONS:
         out.append(_pm(ctx, f"<b>{escape(group)}.</b> {escape(rule)}", "caution"))
         out.extend(_p(ctx, m, "caution") for m in by_group.get(group, ()))
