@@ -197,6 +197,7 @@ def electrical_json(design: Design) -> dict:
                 "efficiency": _r(op.efficiency),
                 "copper_loss_w": _r(op.copper_loss_w, 3),
                 "rectifier_loss_w": _r(op.rectifier_loss_w, 3),
+                "delta_loop_loss_w": _r(op.loop_loss_w, 3),  # part of copper_loss_w
                 "phase_current_rms_a": _r(op.phase_current_rms_a, 4),
                 "current_density_a_mm2": _r(op.current_density_a_mm2, 3),
                 # null where the steady state lies past the cap: no figure is claimed there

@@ -12,8 +12,8 @@ from layout.forces import Forces, compute_forces
 from layout.geometry import Geometry, resolve_geometry
 from layout.model import Prediction, predict
 from layout.pairs import balanced_alternatives
-from layout.safety import Warning, collect_warnings
-from layout.spec import Spec
+from layout.safety import DELTA_LOOP_SHARE, Warning, collect_warnings
+from layout.spec import DesignError, Spec, with_value
 from layout.winding import Layout, layout_notes, span_pitch_factor, star_of_slots
 
 if TYPE_CHECKING:
@@ -84,6 +84,21 @@ def winding_layout(spec: Spec) -> Layout:
     return lay
 
 
+def _as_star(
+    spec: Spec, geo: Geometry, lay: Layout, link: CoilLinkage, pred: Prediction
+) -> Prediction | None:
+    """The same machine connected in star, where its delta loses enough to a circulating
+    current to be warned of (the field and coils are unchanged: only EMF and output re-run)."""
+    rated = pred.rated
+    if spec.connection.kind != "delta" or rated.loop_loss_w <= DELTA_LOOP_SHARE * rated.dc_power_w:
+        return None
+    try:
+        star = with_value(spec, "connection.kind", "star")
+        return predict(star, geo, lay, phase_emf(link, lay, "star"))
+    except DesignError:
+        return None
+
+
 def compute_design(spec: Spec) -> Design:
     """Layout, field, EMF, winding and output, forces and warnings for one design."""
     lay = winding_layout(spec)
@@ -93,7 +108,7 @@ def compute_design(spec: Spec) -> Design:
     emf = phase_emf(link, lay, spec.connection.kind)
     pred = predict(spec, geo, lay, emf)
     forces = compute_forces(spec, geo, fmap.sources, fmap.peak_bz_t)
-    warnings = collect_warnings(spec, lay, pred, forces)
+    warnings = collect_warnings(spec, lay, pred, forces, _as_star(spec, geo, lay, link, pred))
     return Design(
         spec=spec,
         layout=lay,

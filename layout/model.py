@@ -106,6 +106,7 @@ class OperatingPoint:
     coil_temperature_c: float  # TEMPERATURE_CAP_C where temperature_over_cap
     open_circuit_line_rms_v: float
     temperature_over_cap: bool = False  # the steady state lies above TEMPERATURE_CAP_C
+    loop_loss_w: float = 0.0  # part of copper_loss_w: current circulating round a closed delta
 
     @property
     def temperature_words(self) -> str:
@@ -216,15 +217,59 @@ def _simulate(spec, layout, emf, turns, r20_phase, l_phase, rpms, load: Load, te
     )
 
 
+def _harmonic_rms(wave: np.ndarray) -> np.ndarray:
+    """RMS of each harmonic k = 0, 1, … of one period sampled evenly, (m//2+1,); the DC and an
+    even count's Nyquist bin are dropped (a rotating machine's EMF has neither)."""
+    m = wave.shape[-1]
+    amp = np.abs(np.fft.rfft(wave)) * math.sqrt(2) / m
+    amp[0] = 0.0
+    if m % 2 == 0:
+        amp[-1] = 0.0
+    return amp
+
+
 def _ac_line_output(spec, layout, emf, turns, r_phase, l_phase, rpm, load_ohm):
-    """Fundamental-frequency phasor solution for a balanced resistive star load per phase."""
-    w = _omega(rpm)
-    e_ph = rms(emf.phase_v[0]) * turns * w
-    x = w * layout.pole_pairs * l_phase
-    z = np.hypot(r_phase + load_ohm, x)
-    i_ph = e_ph / z
-    v_ph = i_ph * load_ohm
-    return e_ph, i_ph, v_ph
+    """Balanced resistive load per phase, solved harmonic by harmonic (exact: linear circuit).
+
+    Each harmonic k of the phase EMF E_k drives I_k = E_k / (R + R_L + j k ω_e L) through a
+    winding and its share of the load, for the harmonics the terminals see (for three
+    phases, those that are not multiples of 3). The triplen harmonics are the mean EMF ē of
+    the three phases: with a floating star they drive nothing; round a closed delta KVL gives
+    3 (R i0 + L di0/dt) = 3 ē, so i0_k = ē_k / (R + j k ω_e L) circulates inside the windings,
+    heats them and never reaches the load (the same loop current the rectifier path adds,
+    circuit._loop_current). Arrays over the points of `rpm`; `r_phase` may be per point.
+    Returns (e_ph, i_load, v_ph, i_loop): rms phase EMF, winding current reaching the load,
+    phase voltage across the load and the delta's circulating current, all rms over the
+    harmonics.
+    """
+    w = np.atleast_1d(_omega(rpm))
+    we = w * layout.pole_pairs
+    k = np.arange(emf.samples // 2 + 1)[None, :]
+    mean = emf.phase_v.mean(axis=0)
+    seen = _harmonic_rms(emf.phase_v[0] - mean if layout.phases == 3 else emf.phase_v[0])
+    e_k = seen[None, :] * (turns * w)[:, None]
+    r = np.broadcast_to(np.asarray(r_phase, dtype=float), np.shape(w))[:, None]
+    x_k = k * we[:, None] * l_phase
+    i_k = e_k / np.hypot(r + load_ohm, x_k)
+    i_load = np.sqrt((i_k**2).sum(axis=1))
+    i_loop = _loop_current_rms(spec, layout, emf, turns, r_phase, l_phase, rpm)
+    e_ph = float(rms(emf.phase_v[0])) * turns * w
+    return e_ph, i_load, i_load * load_ohm, i_loop
+
+
+def _loop_current_rms(spec, layout, emf, turns, r_phase, l_phase, rpm) -> np.ndarray:
+    """RMS current circulating round a closed delta at each point of `rpm`, A; zeros for star
+    and single phase. i0_k = ē_k / (R + j k ω_e L) for each harmonic of the mean EMF ē of the
+    three phases (KVL round the loop; circuit._loop_current solves the same in the time
+    domain). It flows whatever the load, so its copper loss is the delta's own cost."""
+    w = np.atleast_1d(_omega(rpm))
+    if layout.phases != 3 or spec.connection.kind != "delta":
+        return np.zeros(np.shape(w))
+    k = np.arange(emf.samples // 2 + 1)[None, :]
+    r = np.broadcast_to(np.asarray(r_phase, dtype=float), np.shape(w))[:, None]
+    x_k = k * (w * layout.pole_pairs)[:, None] * l_phase
+    e0_k = _harmonic_rms(emf.phase_v.mean(axis=0))[None, :] * (turns * w)[:, None]
+    return np.sqrt(((e0_k / np.hypot(r, x_k)) ** 2).sum(axis=1))
 
 
 def predict(spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf) -> Prediction:
@@ -295,16 +340,19 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
 
         def ac_line(idx, t):
             r_hot = r_phase * copper_resistivity(np.asarray(t)) / copper_resistivity(20.0)
-            _e, i, v = _ac_line_output(spec, layout, emf, turns, r_hot, l_phase, rpms[idx], load_ohm)
-            return i, v, phases * i**2 * r_hot
+            _e, i, v, i0 = _ac_line_output(spec, layout, emf, turns, r_hot, l_phase, rpms[idx], load_ohm)
+            return i, v, phases * (i**2 + i0**2) * r_hot, i0
 
         temps, over = settle_temperature(lambda i, t: ac_line(i, t)[2], ambient, conductance, len(rpms))
-        i_ph, v_ph, cu_w = ac_line(np.arange(len(rpms)), temps)
-        dc_p = phases * i_ph**2 * load_ohm
+        i_load, v_ph, cu_w, i_loop = ac_line(np.arange(len(rpms)), temps)
+        i_ph = np.hypot(i_load, i_loop)
+        dc_p = phases * i_load**2 * load_ohm
         dc_v = v_ph * (math.sqrt(3) if star else 1.0)  # line voltage
-        dc_i = i_ph * (1.0 if star else math.sqrt(3))  # line current
+        dc_i = i_load * (1.0 if star else math.sqrt(3))  # line current: the loop current stays inside
         rect_w = np.zeros(len(rpms))
         src = dc_p + cu_w
+    r_hot = r_phase * copper_resistivity(temps) / copper_resistivity(20.0)
+    loop_w = phases * _loop_current_rms(spec, layout, emf, turns, r_hot, l_phase, rpms) ** 2 * r_hot
     eff = np.where(src > 1e-9, dc_p / np.maximum(src, 1e-12), 0.0)
     density = i_ph / layout.parallel_paths / wire.copper_mm2
     curve = tuple(
@@ -321,6 +369,7 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
             coil_temperature_c=float(temps[k]),
             open_circuit_line_rms_v=float(line_rms_per * _omega(rpms[k])),
             temperature_over_cap=bool(over[k]),
+            loop_loss_w=float(loop_w[k]),
         )
         for k in range(len(rpms))
     )
@@ -386,8 +435,8 @@ def _turns_for_ac(spec, geo, layout, emf, temp_c: float) -> int:
         if cu is None:
             return None
         r_hot = cu[3] * copper_resistivity(temp_c) / copper_resistivity(20.0)
-        _, _, v = _ac_line_output(spec, layout, emf, n, r_hot, cu[4], ta.rated_rpm, v_ph / i_ph)
-        return float(v) * (ta.voltage_v / v_ph)
+        _, _, v, _ = _ac_line_output(spec, layout, emf, n, r_hot, cu[4], ta.rated_rpm, v_ph / i_ph)
+        return float(v[0]) * (ta.voltage_v / v_ph)
 
     e_turn = float(rms(emf.phase_v[0])) * float(_omega(ta.rated_rpm))
     return _fewest_turns(spec, volts, v_ph / e_turn)

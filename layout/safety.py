@@ -19,6 +19,7 @@ ELV_AC_V = 50.0
 ELV_DC_V = 120.0
 CURRENT_DENSITY_STILL_AIR_A_MM2 = 5.0  # hand-wound coils in still air: 3–5 A/mm² (common practice)
 CURRENT_DENSITY_CAST_A_MM2 = 4.0  # coils cast in resin shed heat worse (common practice)
+DELTA_LOOP_SHARE = 0.03  # a delta's circulating loss worth a warning, share of output (our choice)
 PACEMAKER_DISTANCE_MM = 150  # keep strong magnets this far from implants (from memory)
 DEFER = "follow local codes and have a licensed electrician check the installation"
 
@@ -45,14 +46,18 @@ class Warning:
     message: str
 
 
-def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Forces) -> list[Warning]:
+def collect_warnings(
+    spec: Spec, layout: Layout, pred: Prediction, forces: Forces, star: Prediction | None = None
+) -> list[Warning]:
     """Every warning the design earns, most dangerous first within each subject.
 
     Limits: IEC 61140 extra-low voltage (50 V AC rms, 120 V DC); current density in A/mm²,
     coil and magnet temperatures in °C against the binder's and grade's limits
     (layout.materials); steel flux density in T against `STEEL_B_LIMIT_T`; hoop stress against
     the disc material's strength over `HOOP_SAFETY_FACTOR`; disc pull in N against
-    `JACKING_FORCE_N` (the last four common practice).
+    `JACKING_FORCE_N` (the last four common practice). A delta's circulating current is
+    flagged above `DELTA_LOOP_SHARE` of the output (our choice), with the figures of the
+    same machine in star (`star`, re-run by the caller) when given.
     """
     out: list[Warning] = []
     ta = spec.target
@@ -194,6 +199,24 @@ def collect_warnings(spec: Spec, layout: Layout, pred: Prediction, forces: Force
             "warning",
             f"Efficiency at {rated.rpm:g} rpm is {rated.efficiency:.0%}: copper and rectifier "
             f"losses eat the output{why}.",
+        )
+    loop = rated.loop_loss_w
+    if loop > DELTA_LOOP_SHARE * max(rated.dc_power_w, 1e-9) and rated.dc_power_w > 0:
+        instead = ""
+        if star is not None:
+            st = star.rated
+            instead = (
+                f' Connected in star (connection.kind = "star", {star.turns_per_coil} turns a coil) '
+                f"the model gives {st.dc_power_w:.0f} W at {st.efficiency:.0%} efficiency, "
+                f"against {rated.dc_power_w:.0f} W at {rated.efficiency:.0%} in delta."
+            )
+        add(
+            "delta.circulating",
+            "warning",
+            f"Round the closed delta the triplen harmonics of the EMF (3rd, 9th, …) drive a current "
+            f"that never reaches "
+            f"the load: {loop:.0f} W of copper loss at {rated.rpm:g} rpm, "
+            f"{loop / rated.dc_power_w:.0%} of the output.{instead}",
         )
     slip = unit_slip_hint(spec)
     if slip:

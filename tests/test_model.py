@@ -307,8 +307,9 @@ def test_plan_json_contract(name):
 
     assert doc["warnings"]
     for w in doc["warnings"]:
-        assert set(w) == {"code", "severity", "message"}
-        assert all(isinstance(v, str) and v for v in w.values())
+        assert set(w) == {"code", "severity", "message", "suggestions"}
+        assert all(isinstance(w[k], str) and w[k] for k in ("code", "severity", "message"))
+        assert w["suggestions"] is None  # computed only on request (plan --suggest, build)
 
 
 def test_ac_line_target_is_met_with_the_fewest_turns():
@@ -324,7 +325,7 @@ def test_ac_line_target_is_met_with_the_fewest_turns():
     # One turn fewer: the loaded line voltage falls short.
     cu = model._copper(spec, d.geometry, d.layout, pr.turns_per_coil - 1)
     v_ph_target = 40.0 / math.sqrt(3)
-    _, _, v_ph = model._ac_line_output(
+    _, _, v_ph, _ = model._ac_line_output(
         spec,
         d.layout,
         pr.emf,
@@ -334,7 +335,7 @@ def test_ac_line_target_is_met_with_the_fewest_turns():
         300.0,
         v_ph_target / 3.0,
     )
-    assert float(v_ph) * math.sqrt(3) < 40.0
+    assert float(v_ph[0]) * math.sqrt(3) < 40.0
 
 
 @pytest.mark.parametrize("demo", DEMOS)
@@ -401,3 +402,85 @@ def test_settle_temperature_against_a_closed_form():
     assert np.allclose(temps[ok], exact[ok], atol=0.1)
     assert (over == ~ok).all() and (temps[over] == TEMPERATURE_CAP_C).all()
     assert over.any() and ok.sum() >= 3  # both kinds of point were tried
+
+
+# --- AC line round a closed delta ------------------------------------------------------------
+
+# A 15-coil, 20-magnet machine of our own with narrow magnets far out: its coils' EMF carries
+# a strong third harmonic, which circulates round a closed delta.
+DELTA_AC = (
+    "millrace",
+    ("stator.coil_positions", 15),
+    ("magnets.count", 20),
+    ("connection.kind", "delta"),
+    ("magnets.width_mm", 20.0),
+    ("magnets.pitch_radius_mm", 140.0),
+    ("stator.thickness_mm", 8.0),
+    ("target.kind", "ac_line"),
+    ("target.voltage_v", 40.0),
+    ("target.rated_current_a", 3.0),
+    ("target.battery_v", None),
+    ("target.cut_in_rpm", None),
+)
+
+
+def _delta_time_domain(d: Design, periods: int):
+    """Brute-force reference, written apart from the model's harmonic solution: the three
+    windings of a closed delta, each with a load resistor R_L across its own terminals,
+    integrated in time (scipy's RK45) from rest until the start-up transient has died.
+
+    KCL at the three terminals with v_A + v_B + v_C = 0 gives each winding's terminal voltage
+    v_k = R_L (i_k − ī), ī the mean winding current, so L di_k/dt = e_k − R i_k − R_L (i_k − ī).
+    Returns (load power W, copper loss W, line voltage rms V) over the last period.
+    """
+    from scipy.integrate import solve_ivp
+
+    from layout.wire import copper_resistivity
+
+    pr, rated, ta = d.prediction, d.prediction.rated, d.spec.target
+    r = pr.phase_resistance_ohm * copper_resistivity(rated.coil_temperature_c) / copper_resistivity(20.0)
+    ind = pr.phase_inductance_mh / 1000
+    r_load = ta.voltage_v / (ta.rated_current_a / math.sqrt(3))
+    f = d.layout.pole_pairs * rated.rpm / 60
+    waves = pr.phase_emf_v(rated.rpm)  # (3, m) over one electrical period
+    m = waves.shape[1]
+    grid = np.arange(m + 1) / (m * f)
+    closed = np.concatenate([waves, waves[:, :1]], axis=1)
+
+    def rhs(t, i):
+        tt = t % (1 / f)
+        e = np.array([np.interp(tt, grid, closed[k]) for k in range(3)])
+        return (e - r * i - r_load * (i - i.mean())) / ind
+
+    t_end = periods / f
+    last = np.linspace(t_end - 1 / f, t_end, 2001)
+    sol = solve_ivp(rhs, (0, t_end), np.zeros(3), t_eval=last, rtol=1e-7, atol=1e-8, max_step=1 / (40 * f))
+    i = sol.y
+    v = r_load * (i - i.mean(axis=0))
+    mean = lambda x: np.trapezoid(x, last) * f  # noqa: E731
+    return mean((v**2).sum(axis=0)) / r_load, mean((i**2).sum(axis=0)) * r, math.sqrt(mean(v[0] ** 2))
+
+
+def test_ac_line_delta_agrees_with_a_time_domain_simulation():
+    d = design(*DELTA_AC)
+    rated = d.prediction.rated
+    tau = d.prediction.phase_inductance_mh / 1000 / (d.prediction.phase_resistance_ohm)
+    periods = max(10, math.ceil(10 * tau * d.layout.pole_pairs * rated.rpm / 60) + 2)
+    p_load, p_cu, v_line = _delta_time_domain(d, periods)
+    assert rated.dc_power_w == pytest.approx(p_load, rel=0.005)
+    assert rated.copper_loss_w == pytest.approx(p_cu, rel=0.005)
+    assert rated.dc_voltage_v == pytest.approx(v_line, rel=0.005)
+    # The circulating part is a real share of the heat here, and the model warns of it.
+    assert rated.loop_loss_w > 0.3 * rated.copper_loss_w
+    assert "delta.circulating" in {w.code for w in d.warnings}
+
+
+def test_delta_circulating_warning_gives_the_star_figures_the_model_computes():
+    d = design(*DELTA_AC)
+    star = design(*DELTA_AC[:3], ("connection.kind", "star"), *DELTA_AC[4:])
+    text = next(w.message for w in d.warnings if w.code == "delta.circulating")
+    assert f"{star.prediction.rated.dc_power_w:.0f} W at {star.prediction.rated.efficiency:.0%}" in text
+    assert f"{star.prediction.turns_per_coil} turns" in text
+    assert star.prediction.rated.efficiency > d.prediction.rated.efficiency + 0.1
+    # A floating star carries no circulating current at all (limiting case).
+    assert all(op.loop_loss_w == 0.0 for op in star.prediction.curve)

@@ -29,6 +29,7 @@ ALL_CODES = {
     "layout.unbalanced_pull",
     "turns.cut_in",
     "output.low_efficiency",
+    "delta.circulating",
     "rotor.spinning",
 }
 ACTION_VERBS = (
