@@ -3,12 +3,19 @@ written: webs between holes and pockets, magnets inside their disc, coils apart,
 screws inside the stator, the lead slots between the lugs, the jig's holes inside its core.
 
 Each failure is a DesignError naming the key to change and, where one number settles it,
-the value that would do.
+the value that would do. Where a pair of features comes too close and the keys that size or
+place them only shape outlines (`_TRIAL_KEYS`), the check tries the values each key allows
+on the outlines and names the first key, and the values of it, that leave features of the
+pair's kinds clear of everything: the key of the feature to move first, then others that
+bear on it.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -29,8 +36,9 @@ from fab.outlines import (
 )
 from layout.advice import with_suggestions
 from layout.design import Design, compute_design
+from layout.geometry import resolve_geometry
 from layout.rotor import disc_count, is_steel_disc
-from layout.spec import load_spec
+from layout.spec import DesignError, Spec, load_spec
 
 _TOL = 0.05  # arcs are checked as chords (ARC_STEP_DEG): this covers their sag
 # Which feature of a pair that comes too close is the one to move: the first in this list.
@@ -53,6 +61,24 @@ _MOVE_FIRST = (
     "cavity",
     "outline",
 )
+# Keys a failed check tries other values of. Only the outlines (and, for the stator keys, the
+# coil's shape) depend on them, so a trial needs no new field, output or force computation.
+_TRIAL_KEYS = frozenset(
+    {
+        "fab.winder_hole_diameter_mm",
+        "stator.hole_radial_mm",
+        "rotor.jacking_circle_mm",
+        "rotor.jacking_screw",
+        "rotor.jacking_screws",
+        "rotor.hub_bolt_circle_mm",
+        "rotor.hub_hole_diameter_mm",
+        "rotor.dowel_diameter_mm",
+    }
+)
+# Keys that also size a feature placed by the key on the left, tried after it.
+_ALSO = {"rotor.jacking_circle_mm": ("rotor.jacking_screw", "rotor.jacking_screws")}
+_TRIAL_POINTS = 160  # values tried across a key's range; each change of outcome is then bisected
+_ROUND = 10  # advised bounds are rounded inward to tenths of a millimetre
 
 
 def _segments(pts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -155,10 +181,94 @@ def _apart(gap: float) -> str:
     return "overlap" if gap < 0 else f"are {gap:.1f} mm apart"
 
 
-def _fail(design: Design, flat: Flat, a: Feature, b: Feature, gap: float, need: float, web_key: str):
+@dataclass(frozen=True)
+class Clash:
+    """Two features of a flat part closer than they may be (`b` may be the outline)."""
+
+    a: Feature
+    b: Feature
+    gap_mm: float  # negative if they overlap
+    need_mm: float
+    web_key: str  # the key that sets need_mm, or "" for a fixed making dimension
+
+    @property
+    def kinds(self) -> frozenset[str]:
+        return frozenset((self.a.kind, self.b.kind))
+
+
+def _near_pairs(
+    shapes: list[Shape], limit: float, others: list[Shape] | None = None
+) -> list[tuple[int, int]]:
+    """Index pairs, in row order, of shapes whose bounding boxes lie within `limit`: pairs
+    i < j within `shapes`, or (i, j) of `shapes` × `others`."""
+    b = shapes if others is None else others
+    if not shapes or not b:
+        return []
+    lo_a, hi_a = np.array([s.lo for s in shapes]), np.array([s.hi for s in shapes])
+    lo_b, hi_b = np.array([s.lo for s in b]), np.array([s.hi for s in b])
+    sep = np.maximum(lo_a[:, None, :] - hi_b[None, :, :], lo_b[None, :, :] - hi_a[:, None, :])
+    near = np.hypot(*np.moveaxis(np.maximum(sep, 0.0), -1, 0)) <= limit
+    if others is None:
+        near = np.triu(near, k=1)
+    i, j = np.nonzero(near)
+    return list(zip(i.tolist(), j.tolist(), strict=True))
+
+
+def clashes(
+    flat: Flat, extra: tuple[Feature, ...] = (), kinds: frozenset[str] | None = None
+) -> Iterator[Clash]:
+    """Every pair too close, in the order check_flat meets them.
+
+    Cut and pocketed features keep flat.web_mm apart and from the edge; engravings keep
+    MARK_CLEARANCE_MM from both. `extra` are further places to keep clear (magnets on steel).
+    With `kinds`, only pairs with a feature of one of those kinds are measured.
+    """
+    web = flat.web_mm
+    solid = flat.holes + flat.pockets + extra
+    outline = Shape(flat.outline.path)
+    shapes: dict[int, Shape] = {}
+
+    def shape(f: Feature) -> Shape:
+        if id(f) not in shapes:
+            shapes[id(f)] = Shape(f.path)
+        return shapes[id(f)]
+
+    def wanted(f: Feature, h: Feature) -> bool:
+        return kinds is None or f.kind in kinds or h.kind in kinds
+
+    for f in solid:
+        if wanted(f, flat.outline):
+            g = edge_gap_mm(shape(f), outline)
+            if g < web - _TOL:
+                yield Clash(f, flat.outline, g, web, flat.web_key)
+    # Only pairs whose boxes come within a web of each other can clash: found all at once
+    # (a large stator has hundreds of features), then measured in order.
+    for i, j in _near_pairs([shape(f) for f in solid], web):
+        f, h = solid[i], solid[j]
+        if wanted(f, h):
+            g = gap_mm(shape(f), shape(h), web)
+            if g < web - _TOL:
+                yield Clash(f, h, g, web, flat.web_key)
+    near: dict[int, list[int]] = {}
+    for i, j in _near_pairs([shape(e) for e in flat.engraved], MARK_CLEARANCE_MM, [shape(f) for f in solid]):
+        near.setdefault(i, []).append(j)
+    for k, e in enumerate(flat.engraved):
+        if wanted(e, flat.outline):
+            g = edge_gap_mm(shape(e), outline)
+            if g < MARK_CLEARANCE_MM - _TOL:
+                yield Clash(e, flat.outline, g, MARK_CLEARANCE_MM, "")
+        for f in (solid[j] for j in near.get(k, ())):
+            if wanted(e, f):
+                g = gap_mm(shape(e), shape(f), MARK_CLEARANCE_MM)
+                if g < MARK_CLEARANCE_MM - _TOL:
+                    yield Clash(e, f, g, MARK_CLEARANCE_MM, "")
+
+
+def _fail(design: Design, flat: Flat, clash: Clash) -> DesignError:
     spec = design.spec
-    kinds = {a.kind, b.kind}
-    what = f"{a.label} and {b.label} on the {flat.title} {_apart(gap)}"
+    a, b, need, web_key = clash.a, clash.b, clash.need_mm, clash.web_key
+    kinds = clash.kinds
+    what = f"{a.label} and {b.label} on the {flat.title} {_apart(clash.gap_mm)}"
     rule = f"less than {web_key} = {need:g}" if web_key else f"want at least {need:g} mm"
     mg = spec.magnets
     if kinds <= {"pocket", "magnet"} and a.kind == b.kind:
@@ -197,35 +307,146 @@ def _fail(design: Design, flat: Flat, a: Feature, b: Feature, gap: float, need: 
             2 * disc_layout(design).hub_radius_mm,
             f"{what}, {rule}: use a bolt circle of at least {math.ceil(d * 10) / 10:g} or fewer bolts",
         )
-    m = _mover(a, b)
-    value = round(m.value, 2) if isinstance(m.value, float) else m.value
-    return spec.fail(m.key, value, f"{what}, {rule}: change {m.key}")
+    return _blame(design, flat, clash, f"{what}, {rule}")
+
+
+def _shown(value: object) -> object:
+    return round(value, 2) if isinstance(value, float) else value
+
+
+def _blame(design: Design, flat: Flat, clash: Clash, said: str) -> DesignError:
+    """The error for a clash no rule above settles: the first key, of the feature to move and
+    then of the others that bear on the pair, with values that clear it (tried on the outlines)."""
+    spec = design.spec
+    mover = _mover(clash.a, clash.b)
+    other = clash.b if mover is clash.a else clash.a
+    if mover.key not in _TRIAL_KEYS:
+        return spec.fail(mover.key, _shown(mover.value), f"{said}: change {mover.key}")
+    keys = dict.fromkeys((mover.key, *_ALSO.get(mover.key, ()), other.key, *_ALSO.get(other.key, ())))
+    tried = [k for k in keys if k in _TRIAL_KEYS]
+    trial = _Trial(design, flat, clash)
+    for key in tried:
+        present = _present(spec, key, (mover, other))
+        works = trial.values_that_clear(key, present)
+        if not works:
+            continue
+        if key == mover.key:
+            return spec.fail(key, _shown(present), f"{said}: change {key} ({works} would do)")
+        return spec.fail(
+            key, _shown(present), f"{said}, and no {mover.key} clears them: change {key} ({works} would do)"
+        )
+    return spec.fail(mover.key, _shown(mover.value), f"{said}: no value of {_or(tried)} alone clears them")
+
+
+def _present(spec: Spec, key: str, features: tuple[Feature, ...]) -> object:
+    """The key's value as the design has it: a feature's own figure for a key left to its
+    default (None in the spec), else the spec's."""
+    for f in features:
+        if f.key == key and f.value is not None:
+            return f.value
+    section, name = key.split(".")
+    return getattr(getattr(spec, section), name)
+
+
+def _with_value(design: Design, key: str, value: object) -> Design:
+    """The design with one trial key changed; the coil's shape re-resolved for a stator key."""
+    section, name = key.split(".")
+    spec = design.spec
+    spec = dataclasses.replace(
+        spec, **{section: dataclasses.replace(getattr(spec, section), **{name: value})}
+    )
+    geometry = design.geometry
+    if section == "stator":
+        geometry = resolve_geometry(spec, geometry.coil_indices)
+    return dataclasses.replace(design, spec=spec, geometry=geometry)
+
+
+class _Trial:
+    """Tries values of keys on one failed part: do the features of the clash's two kinds then
+    keep clear of everything on the part, and do the coil and stator checks still pass?
+
+    Every clash of those kinds must go, not only the one reported, so that one change
+    settles them all (a longer coil hole that clears the jig's pins from the core's ends
+    must clear them from the winder shaft's hole too).
+    """
+
+    def __init__(self, design: Design, flat: Flat, clash: Clash):
+        self.design, self.part, self.kinds = design, flat.part, clash.kinds
+        outline = Shape(flat.outline.path)
+        self.part_size_mm = float((outline.hi - outline.lo).max())
+
+    def clears(self, key: str, value: object) -> bool:
+        try:
+            d = _with_value(self.design, key, value)
+            check_coils(d)
+            check_stator(d)
+            flat, extra = _part_flats(d.spec)[self.part](d)
+        except DesignError:
+            return False
+        return next(clashes(flat, extra, kinds=self.kinds), None) is None
+
+    def values_that_clear(self, key: str, present: object) -> str:
+        """The values of `key` that clear the clash, in words ("at most 7.6"), or ""."""
+        section, name = key.split(".")
+        f = {f.name: f for f in dataclasses.fields(getattr(self.design.spec, section))}[name]
+        m = f.metadata
+        if m["choices"] is not None:
+            return _or([f'"{v}"' for v in m["choices"] if self.clears(key, v)])
+        lo = m["ge"] if m["ge"] is not None else m["gt"]
+        hi = m["le"] if m["le"] is not None else m["lt"]
+        if f.type == "int":
+            return _or([str(v) for v in range(math.ceil(lo), math.floor(hi) + 1) if self.clears(key, v)])
+        # Past twice the present value, or the part's size, a dimension is no longer this part's.
+        top = min(hi, max(2 * float(present or 0), self.part_size_mm))
+        return _ranges(lambda x: self.clears(key, x), lo, top)
+
+
+def _ranges(clear: Callable[[float], bool], lo: float, hi: float) -> str:
+    """The stretches of [lo, hi] where clear(x), found on a grid and bisected at each change,
+    each bound rounded inward to 1/_ROUND, so that it is itself clear; in words."""
+    xs = np.linspace(lo, hi, _TRIAL_POINTS)
+    ok = [clear(float(x)) for x in xs]
+
+    def edge(good: float, bad: float) -> float:
+        for _ in range(12):
+            mid = (good + bad) / 2
+            good, bad = (mid, bad) if clear(mid) else (good, mid)
+        return good
+
+    words = []
+    i = 0
+    while i < len(xs):
+        if not ok[i]:
+            i += 1
+            continue
+        j = i
+        while j + 1 < len(xs) and ok[j + 1]:
+            j += 1
+        a = float(xs[i]) if i == 0 else edge(float(xs[i]), float(xs[i - 1]))
+        b = float(xs[j]) if j == len(xs) - 1 else edge(float(xs[j]), float(xs[j + 1]))
+        a = a if i == 0 else math.ceil(a * _ROUND) / _ROUND
+        b = b if j == len(xs) - 1 else math.floor(b * _ROUND) / _ROUND
+        if a <= b:
+            if i == 0:
+                words.append(f"at most {b:g}")
+            elif j == len(xs) - 1:
+                words.append(f"at least {a:g}")
+            else:
+                words.append(f"{a:g} to {b:g}")
+        i = j + 1
+    return _or(words)
+
+
+def _or(words: list[str]) -> str:
+    if len(words) < 2:
+        return "".join(words)
+    return ", ".join(words[:-1]) + " or " + words[-1]
 
 
 def check_flat(design: Design, flat: Flat, extra: tuple[Feature, ...] = ()) -> None:
-    """Cut and pocketed features keep flat.web_mm apart and from the edge; engravings keep
-    MARK_CLEARANCE_MM from both. `extra` are further places to keep clear (magnets on steel)."""
-    web = flat.web_mm
-    solid = flat.holes + flat.pockets + extra
-    outline = Shape(flat.outline.path)
-    pts = {id(f): Shape(f.path) for f in solid + flat.engraved}
-    for f in solid:
-        g = edge_gap_mm(pts[id(f)], outline)
-        if g < web - _TOL:
-            raise _fail(design, flat, f, flat.outline, g, web, flat.web_key)
-    for i, f in enumerate(solid):
-        for h in solid[i + 1 :]:
-            g = gap_mm(pts[id(f)], pts[id(h)], web)
-            if g < web - _TOL:
-                raise _fail(design, flat, f, h, g, web, flat.web_key)
-    for e in flat.engraved:
-        g = edge_gap_mm(pts[id(e)], outline)
-        if g < MARK_CLEARANCE_MM - _TOL:
-            raise _fail(design, flat, e, flat.outline, g, MARK_CLEARANCE_MM, "")
-        for f in solid:
-            g = gap_mm(pts[id(e)], pts[id(f)], MARK_CLEARANCE_MM)
-            if g < MARK_CLEARANCE_MM - _TOL:
-                raise _fail(design, flat, e, f, g, MARK_CLEARANCE_MM, "")
+    """The first clash of the part (see `clashes`), as a DesignError naming the key to change."""
+    for clash in clashes(flat, extra):
+        raise _fail(design, flat, clash)
 
 
 def check_coils(design: Design) -> None:
@@ -282,6 +503,34 @@ def check_stator(design: Design) -> None:
         )
 
 
+def _rotor_disc(design: Design, disc: int) -> tuple[Flat, tuple[Feature, ...]]:
+    flat = rotor_disc_flat(design, disc)
+    if not is_steel_disc(design.spec):
+        return flat, ()
+    # Magnets on a steel disc must not cover a hole either.
+    pockets = [f for f in magnet_template_flat(design, disc).holes if f.kind == "pocket"]
+    places = tuple(
+        Feature("magnet", f.path, f"magnet place {j}", f.key, f.value) for j, f in enumerate(pockets, start=1)
+    )
+    return flat, places
+
+
+def _part_flats(spec: Spec) -> dict[str, Callable[[Design], tuple[Flat, tuple[Feature, ...]]]]:
+    """Every flat part the package holds, by part name, in the order they are checked: a
+    builder of the part and the further places its check keeps clear."""
+    out = {}
+    for disc in range(1, disc_count(spec) + 1):
+        out[f"rotor_disc_{disc}"] = lambda d, k=disc: _rotor_disc(d, k)
+        if is_steel_disc(spec):
+            out[f"magnet_template_{disc}"] = lambda d, k=disc: (magnet_template_flat(d, k), ())
+    out["stator"] = lambda d: (stator_flat(d), ())
+    if spec.rotor.topology == "one_disc_steel_stator":
+        out["stator_plate"] = lambda d: (stator_plate_flat(d), ())
+    out["winding_jig_core"] = lambda d: (jig_core_flat(d), ())
+    out["winding_jig_cheek"] = lambda d: (jig_cheek_flat(d), ())
+    return out
+
+
 def check_parts(design: Design) -> None:
     """Every check, on every part the package will hold; the first failure is raised."""
     spec = design.spec
@@ -295,23 +544,8 @@ def check_parts(design: Design) -> None:
             f"leaves no room for {lay.balance_screw} balance holes between the magnets or on the rim: "
             "make the disc larger",
         )
-    steel = is_steel_disc(spec)
-    for disc in range(1, disc_count(spec) + 1):
-        flat = rotor_disc_flat(design, disc)
-        # Magnets on a steel disc must not cover a hole either.
-        pockets = [f for f in magnet_template_flat(design, disc).holes if f.kind == "pocket"]
-        places = tuple(
-            Feature("magnet", f.path, f"magnet place {j}", f.key, f.value)
-            for j, f in enumerate(pockets, start=1)
-        )
-        check_flat(design, flat, places if steel else ())
-        if steel:
-            check_flat(design, magnet_template_flat(design, disc))
-    check_flat(design, stator_flat(design))
-    if spec.rotor.topology == "one_disc_steel_stator":
-        check_flat(design, stator_plate_flat(design))
-    check_flat(design, jig_core_flat(design))
-    check_flat(design, jig_cheek_flat(design))
+    for build in _part_flats(spec).values():
+        check_flat(design, *build(design))
 
 
 def checked_design(design_path, suggest: bool = False, progress=None) -> Design:

@@ -37,7 +37,7 @@ from fab.catalogue import Builder, Item, catalogue, safety_text, write_step, wri
 from fab.fit import check_parts
 from layout.advice import advised_codes, with_suggestions
 from layout.design import Design, compute_design
-from layout.spec import load_spec
+from layout.spec import DesignError, load_spec
 
 MANIFEST = "manifest.json"
 
@@ -64,8 +64,9 @@ def worker_main() -> None:
 
     Loads the CAD kernel first, while the first process is still computing the design, then
     reads a pickle of (design, folder, file names, whether to show progress) from stdin, or
-    None to stop; writes a pickle of ("ok", {file: info}) or (kind, message) to what was
-    stdout. Anything the CAD kernel prints goes to stderr, so it cannot spoil the report.
+    None to stop; writes a pickle of ("ok", {file: info}), ("design", DesignError's fields)
+    or (kind, message) to what was stdout. Anything the CAD kernel prints goes to stderr, so
+    it cannot spoil the report.
     """
     report = os.fdopen(os.dup(1), "wb")
     os.dup2(2, 1)
@@ -82,6 +83,8 @@ def worker_main() -> None:
             print(f"  {step} (second process)", file=sys.stderr, flush=True)
 
         result = ("ok", _run(items, Builder(design), Path(tmp), say if verbose else None))
+    except DesignError as exc:  # a part the CAD kernel could not make (fab.solids.modelling)
+        result = ("design", (exc.source, exc.key, exc.value, exc.allowed))
     except OSError as exc:
         result = ("oserror", f"cannot write {exc.filename or 'the package'}: {exc.strerror or exc}")
     except BaseException as exc:  # noqa: BLE001 - reported to the parent, which raises it
@@ -135,6 +138,8 @@ def _worker_result(proc: subprocess.Popen) -> dict:
         status, payload = "error", f"the second process stopped (exit code {proc.returncode})"
     if status == "oserror":
         raise OutputError(payload)
+    if status == "design":
+        raise DesignError(*payload)
     if status != "ok":
         raise RuntimeError(f"writing part solids: {payload}")
     return payload

@@ -5,11 +5,17 @@ One builder per part from the design: `rotor_disc`, `magnet_template`, `stator_c
 `assembly` with everything in place. Features are extrusions and cuts of the shared
 outlines: one prism for a flat part with all its through holes, then one cut for all its
 pockets and engravings together. cadquery is imported inside the functions only.
+
+A part the CAD kernel cannot make (an OCCT exception, or cadquery giving up on a face or a
+cut) is a DesignError naming the part and the key that sets its thickness (`modelling`),
+not a traceback: the design's figures were allowed, but the part they give is not a solid.
 """
 
 from __future__ import annotations
 
+import contextlib
 import math
+from collections.abc import Iterator
 from dataclasses import dataclass
 
 import numpy as np
@@ -33,15 +39,55 @@ from fab.outlines import (
 from layout.design import Design
 from layout.materials import DISC_MATERIALS
 from layout.rotor import disc_count, disc_place
+from layout.spec import DesignError
 
 OVERCUT_MM = 0.5  # cutting tools stand this far past a face, so no face is shared with the part
 ROTOR_PARTS = ("rotor_disc", "magnet")  # the assembly's turning parts begin with these names
+
+
+_KERNEL_MODULES = ("OCP", "cadquery")
+_KERNEL_SAID_CHARS = 80  # of the kernel's own words in the one-line error
 
 
 def _cq():
     import cadquery as cq
 
     return cq
+
+
+def is_kernel_error(exc: BaseException) -> bool:
+    """Did the CAD kernel raise this? Any OCCT exception (OCP's classes, e.g. StdFail_NotDone,
+    Standard_ConstructionError), or a ValueError or RuntimeError raised inside cadquery or OCP."""
+    if isinstance(exc, DesignError):
+        return False
+    if type(exc).__module__.split(".")[0] in _KERNEL_MODULES:
+        return True
+    if not isinstance(exc, ValueError | RuntimeError):
+        return False
+    tb = exc.__traceback__
+    while tb is not None:
+        if str(tb.tb_frame.f_globals.get("__name__", "")).split(".")[0] in _KERNEL_MODULES:
+            return True
+        tb = tb.tb_next
+    return False
+
+
+@contextlib.contextmanager
+def modelling(design: Design, part: str, key: str, value: object) -> Iterator[None]:
+    """Make `part` inside this block: a CAD kernel failure becomes a DesignError in one line
+    naming the part and `key` (the key that sets its thickness), with its `value`."""
+    try:
+        yield
+    except Exception as exc:
+        if not is_kernel_error(exc):
+            raise
+        said = " ".join(f"{type(exc).__name__}: {exc}".split())
+        if len(said) > _KERNEL_SAID_CHARS:
+            said = said[: _KERNEL_SAID_CHARS - 1] + "…"
+        what = f"could not model the {part} (CAD kernel: {said})"
+        if not key:
+            raise design.spec.fail(None, None, what) from exc
+        raise design.spec.fail(key, value, f"{what}: check {key}") from exc
 
 
 def wire(path: Path, z: float = 0.0):
@@ -87,18 +133,37 @@ def flat_solid(flat: Flat, engrave: bool = True):
     return body
 
 
+def part_solid(design: Design, flat: Flat, engrave: bool = True):
+    """flat_solid of one of the design's parts, a kernel failure named after it (`modelling`).
+
+    The key's value is shown as the design file has it, or as used where the file leaves it
+    out (a template's thickness); the jig's core, as thick as the coils, shows the stator's.
+    """
+    value = None
+    if flat.thickness_key:
+        section, name = flat.thickness_key.split(".")
+        value = getattr(getattr(design.spec, section), name)
+    with modelling(design, flat.title, flat.thickness_key, flat.thickness_mm if value is None else value):
+        return flat_solid(flat, engrave)
+
+
 def rotor_disc(design: Design, disc: int):
     """Rotor disc `disc` as made: lying on its back, magnet side up; printed ones engraved."""
     printed = DISC_MATERIALS[design.spec.rotor.disc_material].printed
-    return flat_solid(rotor_disc_flat(design, disc), engrave=printed)
+    return part_solid(design, rotor_disc_flat(design, disc), engrave=printed)
 
 
 def magnet_template(design: Design, disc: int):
-    return flat_solid(magnet_template_flat(design, disc))
+    return part_solid(design, magnet_template_flat(design, disc))
 
 
 def stator_plate(design: Design):
-    return flat_solid(stator_plate_flat(design))
+    return part_solid(design, stator_plate_flat(design))
+
+
+def _stator_thickness(design: Design, part: str):
+    """Modelling a part whose height is the stator's (the coils, the casting, its mould)."""
+    return modelling(design, part, "stator.thickness_mm", design.spec.stator.thickness_mm)
 
 
 def coil_solid(design: Design, index: int):
@@ -106,26 +171,30 @@ def coil_solid(design: Design, index: int):
     geo = design.geometry
     outline, hole = geo.coil_polygons(index)
     c = geo.coil
-    return prism(polygon(outline), c.z_max_mm - c.z_min_mm, c.z_min_mm, (polygon(hole),))
+    with _stator_thickness(design, "coil"):
+        return prism(polygon(outline), c.z_max_mm - c.z_min_mm, c.z_min_mm, (polygon(hole),))
 
 
 def stator_casting(design: Design):
     """The cast resin round the coils, machine coordinates: the stator less its coils."""
     flat = stator_flat(design)
     z0, z1 = design.geometry.stator_z_mm
-    body = prism(flat.outline.path, z1 - z0, z0, tuple(f.path for f in flat.holes))
-    return body.cut(*[coil_solid(design, i) for i in design.geometry.coil_indices])
+    coils = [coil_solid(design, i) for i in design.geometry.coil_indices]
+    with _stator_thickness(design, "stator casting"):
+        body = prism(flat.outline.path, z1 - z0, z0, tuple(f.path for f in flat.holes))
+        return body.cut(*coils)
 
 
 def magnet_solid(design: Design):
     """One magnet centred on the origin, its length along x: every magnet is this one moved."""
     cq = _cq()
     m = design.geometry.magnets[0]
-    if m.shape == "block":
-        a, b, h = m.dimension_mm
-        return cq.Solid.makeBox(a, b, h, cq.Vector(-a / 2, -b / 2, -h / 2))
-    d, h = m.dimension_mm
-    return cq.Solid.makeCylinder(d / 2, h, cq.Vector(0, 0, -h / 2))
+    with modelling(design, "magnet", "magnets.thickness_mm", design.spec.magnets.thickness_mm):
+        if m.shape == "block":
+            a, b, h = m.dimension_mm
+            return cq.Solid.makeBox(a, b, h, cq.Vector(-a / 2, -b / 2, -h / 2))
+        d, h = m.dimension_mm
+        return cq.Solid.makeCylinder(d / 2, h, cq.Vector(0, 0, -h / 2))
 
 
 def magnet_locations(design: Design, disc: int) -> list:
@@ -147,19 +216,20 @@ def stator_mould(design: Design):
     base, frame, _island, _core = mould_flats(design)
     floor, s = base.thickness_mm, frame.thickness_mm
     cavity = stator_flat(design)
-    body = prism(base.outline.path, floor + s)
-    tools = [prism(cavity.outline.path, s + OVERCUT_MM, floor, tuple(f.path for f in cavity.holes))]
-    # Lead slots from the top down to the stator's mid-plane, where the leads are laid.
-    tools += [prism(f.path, s / 2 + OVERCUT_MM, floor + s / 2) for f in lead_slots(design)]
-    return body.cut(*tools)
+    with _stator_thickness(design, "stator mould"):
+        body = prism(base.outline.path, floor + s)
+        tools = [prism(cavity.outline.path, s + OVERCUT_MM, floor, tuple(f.path for f in cavity.holes))]
+        # Lead slots from the top down to the stator's mid-plane, where the leads are laid.
+        tools += [prism(f.path, s / 2 + OVERCUT_MM, floor + s / 2) for f in lead_slots(design)]
+        return body.cut(*tools)
 
 
 def winding_jig(design: Design) -> dict:
     """The jig's pieces as made ("core", "cheek": make two) and, stacked as used, "stack"."""
     cq = _cq()
-    core = flat_solid(jig_core_flat(design))
-    cheek = flat_solid(jig_cheek_flat(design))
-    tc, h = jig_cheek_flat(design).thickness_mm, jig_core_flat(design).thickness_mm
+    core_flat, cheek_flat = jig_core_flat(design), jig_cheek_flat(design)
+    core, cheek = part_solid(design, core_flat), part_solid(design, cheek_flat)
+    tc, h = cheek_flat.thickness_mm, core_flat.thickness_mm
     stack = cq.Compound.makeCompound(
         [cheek, core.translate(cq.Vector(0, 0, tc)), cheek.translate(cq.Vector(0, 0, tc + h))]
     )

@@ -4,13 +4,14 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import re
 
 import numpy as np
 import pytest
-from demos import DEMOS, design
+from demos import DEMOS, design, variant
 
 from fab import outlines as o
-from fab.fit import Shape, check_coils, check_parts, edge_gap_mm, gap_mm
+from fab.fit import Shape, check_coils, check_parts, check_stator, clashes, edge_gap_mm, gap_mm
 from layout.spec import DesignError
 
 
@@ -42,6 +43,14 @@ def one_line(d) -> str:
     return message
 
 
+# Four hub bolts and two dowels leave no gap a ring of three M10 jacking screws clears.
+CROWDED_HUB = (
+    ("rotor.hub_bolts", 4),
+    ("rotor.hub_bolt_circle_mm", 47.0),
+    ("rotor.hub_hole_diameter_mm", 9.0),
+    ("rotor.jacking_screw", "M10"),
+)
+
 # (id, demo, changes, key named, words of the advice)
 FAILURES = [
     ("magnets past the disc's edge", "millrace", (("rotor.disc_outer_diameter_mm", 252.0),),
@@ -62,10 +71,8 @@ FAILURES = [
      "rotor.disc_outer_diameter_mm = 270.0", "no room for M5 balance holes"),
     ("pockets too near the rim", "pedalbox", (("rotor.min_web_mm", 12.0),),
      "rotor.disc_outer_diameter_mm = 190.0", "magnet place 1 and outer edge"),
-    ("jacking screws into the hub bolts", "pedalbox",
-     (("rotor.hub_bolts", 4), ("rotor.hub_bolt_circle_mm", 47.0), ("rotor.hub_hole_diameter_mm", 9.0),
-      ("rotor.jacking_screw", "M10")),
-     "rotor.jacking_circle_mm = 55.92", "jacking screw hole"),
+    ("jacking screws into the hub bolts", "pedalbox", CROWDED_HUB,
+     "rotor.jacking_screws = 3", "jacking screw hole"),
 ]  # fmt: skip
 
 
@@ -103,3 +110,61 @@ def test_coils_that_touch_are_caught():
     with pytest.raises(DesignError, match="stator.coil_clearance_mm = 1.5: neighbouring coils overlap"):
         check_coils(touching)
     check_coils(d)
+
+
+def advised(message: str) -> list[object]:
+    """The values a fit error says would do: "(at least 24.8 would do)", "("M5" or "M6" would do)"."""
+    words = re.search(r"\(([^()]*) would do\)$", message).group(1)
+    values = []
+    for w in re.split(r", | or ", words):
+        w = w.removeprefix("at least ").removeprefix("at most ")
+        values.append(w.strip('"') if w.startswith('"') else float(w) if "." in w else int(w))
+    return values
+
+
+# (id, demo, changes, key named, words, how the advised values read)
+ADVISED = [
+    # The jig's pins stand 0.3 of the coil hole's radial size from its centre: a short hole
+    # puts them too near its ends, and the winder shaft's size cannot move them.
+    ("jig pins near the ends of a short hole", "millrace", (("magnets.length_mm", 20.0),),
+     "stator.hole_radial_mm = 22.0", "pin hole 2 and core", "at least"),
+    ("winder shaft into the jig pins", "millrace", (("fab.winder_hole_diameter_mm", 20.0),),
+     "fab.winder_hole_diameter_mm = 20.0", "winder shaft hole and pin hole 1", "at most"),
+    ("jacking screws into a crowded hub", "pedalbox", CROWDED_HUB,
+     "rotor.jacking_screws = 3", "no rotor.jacking_circle_mm clears them", "4"),
+    ("jacking screws too big for a small hub", "pedalbox", (*CROWDED_HUB, ("rotor.hub_bolt_circle_mm", 40.0)),
+     'rotor.jacking_screw = "M10"', "no rotor.jacking_circle_mm clears them", '"M5" or "M6"'),
+]  # fmt: skip
+
+
+@pytest.mark.parametrize(
+    ("demo", "changes", "named", "words", "advice"), [f[1:] for f in ADVISED], ids=[f[0] for f in ADVISED]
+)
+def test_a_clash_names_the_key_that_clears_it(demo, changes, named, words, advice):
+    message = one_line(design(demo, *changes))
+    assert message.startswith(f"{demo}.toml: {named}: "), message
+    assert words in message and f"({advice}" in message, message
+    key = named.split(" = ")[0]
+    for value in advised(message):
+        check_parts(design(demo, *changes, (key, value)))
+    if advice in ("at least", "at most"):
+        # The bound is the nearest tenth that clears: a tenth the other way does not.
+        (bound,) = advised(message)
+        step = -0.1 if advice == "at least" else 0.1
+        with pytest.raises(DesignError):
+            check_parts(design(demo, *changes, (key, round(bound + step, 1))))
+
+
+def test_no_jacking_circle_clears_a_crowded_hub():
+    # Independently of the advice: every circle, in steps of 0.5 mm, either leaves the
+    # stator's bore or brings a jacking screw hole within the web of another hole.
+    d = design("pedalbox", *CROWDED_HUB)
+    for circle in np.arange(5.0, 200.0, 0.5):
+        trial = dataclasses.replace(
+            d, spec=variant("pedalbox", *CROWDED_HUB, ("rotor.jacking_circle_mm", circle))
+        )
+        try:
+            check_stator(trial)
+        except DesignError:
+            continue
+        assert next(clashes(o.rotor_disc_flat(trial, 2), kinds=frozenset({"jack"})), None), circle

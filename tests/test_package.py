@@ -24,7 +24,9 @@ from fab import OutputError
 from fab import outlines as o
 from fab import package as pkg
 from fab.cli import main
+from fab.fit import check_parts
 from fab.report import plan_text
+from layout.advice import with_suggestions
 
 DESIGN = REPO / "designs" / "millrace.toml"
 MAKES = {"print", "cut", "wind", "assemble", "read"}
@@ -74,7 +76,9 @@ def test_package_holds_every_part(millrace_package):
 def test_the_older_package_was_replaced(millrace_package):
     b = millrace_package
     assert not (b.folder / OLD_ONLY).exists()
-    assert (b.folder / "plan.txt").read_text(encoding="utf-8") == plan_text(design("millrace")) + "\n"
+    # build writes the plan with the changes the model checked for its warnings.
+    planned = with_suggestions(design("millrace"), check_parts)
+    assert (b.folder / "plan.txt").read_text(encoding="utf-8") == plan_text(planned) + "\n"
     leftovers = [p.name for p in b.folder.parent.iterdir() if p.name.startswith(".millrace.")]
     assert leftovers == []
 
@@ -274,6 +278,46 @@ def test_build_errors_are_one_line(tmp_path, capsys):
     (tmp_path / "file").write_text("x", encoding="utf-8")
     code, out, err = run_cli(capsys, "build", DESIGN, "--out", tmp_path / "file")
     assert code == 2 and err.startswith("Error: ") and err.count("\n") == 1
+
+
+def test_a_part_the_cad_kernel_cannot_make_is_one_line(tmp_path, monkeypatch, capsys):
+    from OCP.StdFail import StdFail_NotDone
+
+    import fab.solids
+
+    folder = tmp_path / "millrace"
+    before = old_package(folder)
+    real = fab.solids.flat_solid
+
+    def refuses_discs(flat, engrave=True):
+        if flat.part.startswith("rotor_disc"):
+            raise StdFail_NotDone("BRep_API: command not done")
+        return real(flat, engrave)
+
+    monkeypatch.setattr(fab.solids, "flat_solid", refuses_discs)
+    code, out, err = run_cli(capsys, "build", DESIGN, "--out", folder)
+    assert code == 2 and out == "" and err.count("\n") == 1 and "Traceback" not in err, err
+    assert err == (
+        "Error: millrace.toml: rotor.disc_thickness_mm = 8.0: could not model the rotor disc 1 (lower) "
+        "(CAD kernel: StdFail_NotDone: BRep_API: command not done): check rotor.disc_thickness_mm\n"
+    )
+    unchanged(folder, before)
+
+
+def test_a_part_the_second_process_cannot_make_is_the_same_error():
+    import pickle
+
+    from layout.spec import DesignError
+
+    class Stopped:  # what the first process sees of a second one that has reported and ended
+        stdout = io.BytesIO(pickle.dumps(("design", ("millrace.toml", "stator.thickness_mm", 15.0, "no"))))
+        returncode = 0
+
+        def wait(self):
+            return 0
+
+    with pytest.raises(DesignError, match=r"^millrace\.toml: stator\.thickness_mm = 15\.0: no$"):
+        pkg._worker_result(Stopped())
 
 
 def test_progress_on_a_terminal(tmp_path, monkeypatch, capsys):

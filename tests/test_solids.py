@@ -180,3 +180,52 @@ def test_the_assembly_check_finds_a_collision():
     hit = {b if a == "magnet_1_2" else a for a, b, _ in check.collisions if "magnet_1_2" in (a, b)}
     assert {"stator", "coil_2"} <= hit
     assert check.running_clearance_mm == pytest.approx(0.0, abs=1e-6)
+
+
+# --- what the CAD kernel cannot make ----------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("part", "flat", "key", "shown"),
+    [
+        ("rotor disc 1 (lower)", lambda d: o.rotor_disc_flat(d, 1), "rotor.disc_thickness_mm", "8.0"),
+        ("winding jig cheek", o.jig_cheek_flat, "fab.jig_cheek_thickness_mm", "6.0"),
+        # The template's thickness is left to its default, so the error shows the one used.
+        ("magnet template for rotor disc 1", lambda d: o.magnet_template_flat(d, 1),
+         "fab.template_thickness_mm", "1e-07"),
+        # The core is as thick as the coils; the stator's thickness is the key that sets it.
+        ("winding jig core", o.jig_core_flat, "stator.thickness_mm", "15.0"),
+    ],
+)  # fmt: skip
+def test_a_part_the_kernel_cannot_make_is_one_line_naming_it(part, flat, key, shown):
+    import dataclasses
+
+    from layout.spec import DesignError
+
+    d = design("millrace")
+    # Far below what the design file allows: OCCT refuses to extrude a face this little.
+    thin = dataclasses.replace(flat(d), thickness_mm=1e-7)
+    with pytest.raises(DesignError) as info:
+        S.part_solid(d, thin)
+    message = str(info.value)
+    assert "\n" not in message, message
+    assert message.startswith(f"millrace.toml: {key} = {shown}: could not model the {part} (CAD kernel: "), (
+        message
+    )
+    assert message.endswith(f"): check {key}"), message
+    assert S.is_kernel_error(info.value.__cause__)
+
+
+def test_only_the_kernel_s_errors_become_design_errors():
+    from OCP.StdFail import StdFail_NotDone
+
+    d = design("millrace")
+    assert S.is_kernel_error(StdFail_NotDone("BRep_API: command not done"))
+    # Our own mistakes stay bugs, with their traceback.
+    with pytest.raises(ZeroDivisionError), S.modelling(d, "rotor disc", "rotor.disc_thickness_mm", 8.0):
+        _ = 1 / 0
+    with (
+        pytest.raises(ValueError, match="ours"),
+        S.modelling(d, "rotor disc", "rotor.disc_thickness_mm", 8.0),
+    ):
+        raise ValueError("ours")

@@ -25,7 +25,8 @@ from layout.wire import bundle_diameter_mm
 class JigLayout:
     shift_x_mm: float  # coil frame x of the core's centre (the jig's origin)
     lead_slot_mm: float
-    pin_offset_mm: float
+    pin_offset_mm: float  # each pin this far either side of the centre, along the radius
+    hole_radial_mm: float  # the coil hole's radial size, which places the pins
 
 
 def jig_layout(design: Design) -> JigLayout:
@@ -34,21 +35,23 @@ def jig_layout(design: Design) -> JigLayout:
     wire = design.prediction.wire
     slot = max(2.0, bundle_diameter_mm(wire) + 0.5)
     radial = float(hole[:, 0].max() - hole[:, 0].min())
-    return JigLayout(cx, slot, 0.3 * radial)
+    return JigLayout(cx, slot, 0.3 * radial, radial)
 
 
 def _jig_holes(design: Design, g: float) -> list[Feature]:
     jl = jig_layout(design)
     d = design.spec.fab.winder_hole_diameter_mm
     out = [Feature("winder", circle(0, 0, d / 2 - g), "winder shaft hole", "fab.winder_hole_diameter_mm", d)]
+    # The pins stand a fixed share of the hole's radial size from the centre: the hole's
+    # size moves them, and the winder shaft's size does not.
     for k, x in enumerate((-jl.pin_offset_mm, jl.pin_offset_mm), start=1):
         out.append(
             Feature(
                 "pin",
                 circle(x, 0, JIG_PIN_DIAMETER_MM / 2 - g),
                 f"pin hole {k}",
-                "fab.winder_hole_diameter_mm",
-                d,
+                "stator.hole_radial_mm",
+                jl.hole_radial_mm,
             )
         )
     return out
@@ -64,6 +67,7 @@ def jig_core_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
         part="winding_jig_core",
         title="winding jig core",
         thickness_mm=geo.coil.thickness_mm,
+        thickness_key="stator.thickness_mm",
         outline=Feature("outline", polygon(core), "core", "stator.hole_radial_mm", None),
         holes=tuple(_jig_holes(design, g)),
         web_mm=JIG_WEB_MM,
@@ -90,6 +94,7 @@ def jig_cheek_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
         part="winding_jig_cheek",
         title="winding jig cheek",
         thickness_mm=design.spec.fab.jig_cheek_thickness_mm,
+        thickness_key="fab.jig_cheek_thickness_mm",
         outline=Feature("outline", polygon(pts), "cheek", "fab.jig_cheek_thickness_mm", None),
         holes=tuple(_jig_holes(design, g)),
         reference=(

@@ -206,6 +206,7 @@ class Flat:
     reference: tuple[Feature, ...] = ()
     web_mm: float = 0.0  # least material between cut features, and their edge gap
     web_key: str = "rotor.min_web_mm"
+    thickness_key: str = ""  # the design key that sets thickness_mm
 
     def count(self, kind: str) -> int:
         feats = self.holes + self.pockets + self.engraved + self.reference

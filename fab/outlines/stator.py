@@ -170,6 +170,7 @@ def stator_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
         part="stator",
         title="cast stator",
         thickness_mm=spec.stator.thickness_mm,
+        thickness_key="stator.thickness_mm",
         outline=Feature(
             "outline", lugged_outline(sl, g), "stator rim", "stator.resin_rim_mm", spec.stator.resin_rim_mm
         ),
@@ -207,6 +208,7 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
         part="stator_mould_base",
         title="stator mould base board",
         thickness_mm=st.mould_wall_mm,
+        thickness_key="stator.mould_wall_mm",
         outline=Feature(
             "outline",
             circle(0, 0, sl.mould_radius_mm + g),
@@ -225,6 +227,7 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
         part="stator_mould_frame",
         title="stator mould frame",
         thickness_mm=st.thickness_mm,
+        thickness_key="stator.thickness_mm",
         outline=Feature(
             "outline",
             circle(0, 0, sl.mould_radius_mm + g),
@@ -248,6 +251,7 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
         part="stator_mould_island",
         title="stator mould island",
         thickness_mm=st.thickness_mm,
+        thickness_key="stator.thickness_mm",
         outline=Feature(
             "outline", circle(0, 0, sl.inner_radius_mm + g), "island", "stator.resin_rim_mm", st.resin_rim_mm
         ),
@@ -257,6 +261,7 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
         part="stator_mould_core",
         title="stator mould coil place",
         thickness_mm=st.thickness_mm,
+        thickness_key="stator.thickness_mm",
         outline=Feature(
             "outline",
             polygon(place - (polygon(geo.coil.hole_mm).centroid()[0], 0.0)),
@@ -290,6 +295,7 @@ def stator_plate_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
         part="stator_plate",
         title="steel stator plate",
         thickness_mm=spec.rotor.stator_plate_thickness_mm,
+        thickness_key="rotor.stator_plate_thickness_mm",
         outline=Feature(
             "outline", lugged_outline(sl, g), "plate rim", "stator.resin_rim_mm", spec.stator.resin_rim_mm
         ),
