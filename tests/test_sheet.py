@@ -391,6 +391,59 @@ def test_test_plan_gives_the_expected_readings(sheets, designs, demo):
     assert "insulation" in text and "MΩ" in text
 
 
+def _stated(figures: dict, what: str, rpm: float) -> str:
+    """A voltage as both pages print it: one decimal, or whole volts at the highest speed."""
+    return f"{figures[what, rpm]:.1f} V"
+
+
+@pytest.mark.parametrize("toml", sorted(p.stem for p in DESIGNS.glob("*.toml")))
+def test_test_plan_expects_the_summary_s_voltages(sheets, designs, toml):
+    d = designs[toml]
+    ta, rated = d.spec.target, d.prediction.rated
+    plan, summary = sheet.bench_voltages(d), sheet.summary_voltages(d)
+    both = plan.keys() & summary.keys()
+    # Every speed the summary states a voltage at, the plan states one at too, and the same;
+    # but a battery's voltage under load, which the battery sets and the plan does not check.
+    assert both == {k for k in summary if k[0] == "open circuit" or ta.kind != "battery"}
+    assert {("open circuit", ta.rated_rpm), ("open circuit", ta.max_rpm)} <= both
+    if ta.kind == "battery":
+        assert ("open circuit", round(d.prediction.cut_in_rpm)) in both
+    else:
+        assert ("loaded", rated.rpm) in both
+    for key in both:
+        assert plan[key] == summary[key], key
+    # And the pages print those figures.
+    reader = sheets[toml, "a4"][1]
+    summary_text = " ".join(section(reader, d.spec.name).split())
+    plan_text = " ".join(section(reader, "Test plan").split())
+    for what, rpm in both:
+        words = (
+            f"{summary[what, rpm]:.0f} V at {rpm:g} rpm" if rpm == ta.max_rpm else _stated(summary, what, rpm)
+        )
+        assert words in summary_text and words in plan_text, (what, rpm, words)
+
+
+LINE_LOAD = (("target.kind", "ac_line"), ("target.voltage_v", 230.0), ("target.rated_current_a", 0.5))
+NO_RECTIFIER = re.compile(r"bridge|rectif|diode|DC\+|DC−", re.I)
+
+
+@pytest.mark.parametrize("connection", ["star", "delta"])
+def test_a_line_load_is_wired_with_no_rectifier(tmp_path, connection):
+    from demos import design
+
+    d = design("millrace", *LINE_LOAD, ("connection.kind", connection))
+    notes = [sheet._connection_heading(d), *sheet._connection_notes(d)]
+    assert not [n for n in notes if NO_RECTIFIER.search(n)], notes
+    assert any("AC load" in n for n in notes)
+    reader = PdfReader(write_sheet(d, tmp_path / "line.pdf", date=DATE))
+    wiring = " ".join(section(reader, "Wiring diagram").split())
+    assert not NO_RECTIFIER.search(wiring), wiring
+    # The summary and the plan agree for a line load too, with no cut-in in either.
+    plan, summary = sheet.bench_voltages(d), sheet.summary_voltages(d)
+    assert summary.keys() <= plan.keys() and all(plan[k] == summary[k] for k in summary)
+    assert sheet._bench_speeds(d) == [100.0, d.spec.target.rated_rpm]
+
+
 # --------------------------------------------------------------------------- writing and rendering
 
 

@@ -29,7 +29,7 @@ from xml.sax.saxutils import escape
 
 from fab import ordinary_permissions
 from fab.sheet.balance_materials import _balance_and_materials, _balance_report, _materials_rows
-from fab.sheet.bench_tests import _bench_speeds, _test_plan
+from fab.sheet.bench_tests import PER_RPM, _bench_speeds, _test_plan, bench_voltages
 from fab.sheet.build import _build
 from fab.sheet.charts import (
     _CHART_H,
@@ -110,9 +110,11 @@ from fab.sheet.summary import (
     _caution_group,
     _connection_words,
     _cut_in_words,
+    _line_word,
     _summary,
     _target_words,
     _topology_words,
+    summary_voltages,
 )
 from fab.sheet.wiring import (
     _CONNECTION_H,
@@ -136,6 +138,8 @@ from fab.sheet.words import (
     _pocket_word,
     _terminals,
     _wire_words,
+    cut_in_rpm_stated,
+    open_circuit_rms_v,
 )
 from layout.bill import RESIN_MARGIN_PCT, WIRE_MARGIN_PCT
 from layout.circuit import BRIDGE_CURRENT_FACTOR, line_resistance_ohm

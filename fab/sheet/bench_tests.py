@@ -12,6 +12,8 @@ from fab.sheet.words import (
     RESISTANCE_BAND_PCT,
     _band,
     _terminals,
+    cut_in_rpm_stated,
+    open_circuit_rms_v,
 )
 from layout.circuit import line_resistance_ohm
 from layout.design import Design
@@ -21,12 +23,30 @@ from layout.winding import electrical_hz
 
 
 def _bench_speeds(design: Design) -> list[float]:
-    """Speeds to check the open-circuit voltage at: a slow one, cut-in and rated."""
-    ta, pr = design.spec.target, design.prediction
-    speeds = {round(pr.cut_in_rpm), ta.rated_rpm}
+    """Speeds to check the open-circuit voltage at: a slow one, cut-in (a battery's) and rated."""
+    ta = design.spec.target
+    speeds = {ta.rated_rpm}
+    cut_in = cut_in_rpm_stated(design)
+    if cut_in is not None:
+        speeds.add(cut_in)
     if ta.rated_rpm > 100:
         speeds.add(100.0)
     return sorted(speeds)
+
+
+PER_RPM = 1000.0  # the plan states the open-circuit voltage's rise per this many rpm
+
+
+def bench_voltages(design: Design) -> dict[tuple[str, float], float]:
+    """The voltages the test plan expects, by ("open circuit" or "loaded", rpm): each bench
+    speed, the rise per PER_RPM and the highest speed in the note under the table, and the
+    rated load's for a load that is not a battery."""
+    ta, rated = design.spec.target, design.prediction.rated
+    speeds = [*_bench_speeds(design), PER_RPM, ta.max_rpm]
+    out = {("open circuit", rpm): open_circuit_rms_v(design, rpm) for rpm in speeds}
+    if ta.kind != "battery":
+        out["loaded", rated.rpm] = rated.dc_voltage_v
+    return out
 
 
 def _test_plan(ctx: _Ctx) -> list:
@@ -103,9 +123,9 @@ def _test_plan(ctx: _Ctx) -> list:
             blanks(ohm),
         )
     joined = {"star": "star point made, ", "delta": "delta closed, "}.get(spec.connection.kind, "")
-    per_rpm = pr.open_circuit_line_rms_v / ta.rated_rpm
+    volts = bench_voltages(d)
     for rpm in _bench_speeds(d):
-        v = per_rpm * rpm
+        v = volts["open circuit", rpm]
         lo, hi = _band(v, OPEN_CIRCUIT_BAND_PCT)
         hz = electrical_hz(lay.pole_pairs, rpm)
         add(
@@ -132,8 +152,8 @@ def _test_plan(ctx: _Ctx) -> list:
         rated = pr.rated
         add(
             "rated load",
-            f"the rated load connected, at {ta.rated_rpm:g} rpm",
-            f"{rated.dc_voltage_v:.1f} V, {rated.dc_current_a:.2f} A",
+            f"the rated load connected, at {rated.rpm:g} rpm",
+            f"{volts['loaded', rated.rpm]:.1f} V, {rated.dc_current_a:.2f} A",
             "______ V",
         )
     binder_max = STATOR_BINDERS_MAX_C[spec.stator.binder]
@@ -154,8 +174,9 @@ def _test_plan(ctx: _Ctx) -> list:
     out.append(
         _p(
             ctx,
-            f"Open-circuit voltage rises in proportion to speed: {1000 * per_rpm:.1f} V per 1000 rpm here, "
-            f"{pr.open_circuit_line_rms_at_max_v:.0f} V at {ta.max_rpm:g} rpm.",
+            "Open-circuit voltage rises in proportion to speed: "
+            f"{volts['open circuit', PER_RPM]:.1f} V per {PER_RPM:g} rpm here, "
+            f"{volts['open circuit', ta.max_rpm]:.0f} V at {ta.max_rpm:g} rpm.",
             "small",
         )
     )

@@ -8,7 +8,7 @@ from xml.sax.saxutils import escape
 
 from fab.report import suggestion_lines
 from fab.sheet.document import MM, Files, _Ctx, _fmt_ohm, _key_value_table, _p, _pm, _table
-from fab.sheet.words import DEFER, _magnet_words, _wire_words
+from fab.sheet.words import DEFER, _magnet_words, _wire_words, cut_in_rpm_stated, open_circuit_rms_v
 from layout.design import Design
 
 
@@ -36,14 +36,32 @@ def _target_words(design: Design) -> str:
     return f"{ta.voltage_v:g} V AC line at {ta.rated_current_a:g} A, no rectifier"
 
 
+def summary_voltages(design: Design) -> dict[tuple[str, float], float]:
+    """The voltages the summary states, by ("open circuit" or "loaded", rpm): open circuit at
+    the rated and the highest speed and at a battery's cut-in, loaded at the rated speed."""
+    ta, rated = design.spec.target, design.prediction.rated
+    speeds = [ta.rated_rpm, ta.max_rpm]
+    cut_in = cut_in_rpm_stated(design)
+    if cut_in is not None:
+        speeds.append(cut_in)
+    out = {("open circuit", rpm): open_circuit_rms_v(design, rpm) for rpm in speeds}
+    out["loaded", rated.rpm] = rated.dc_voltage_v
+    return out
+
+
+def _line_word(design: Design) -> str:
+    return "line" if design.layout.phases == 3 else "terminal"
+
+
 def _cut_in_words(design: Design) -> str:
-    pr, ta = design.prediction, design.spec.target
-    if ta.kind == "ac_line":
-        return f"{pr.cut_in_rpm:.0f} rpm: the open-circuit line voltage reaches {ta.voltage_v:g} V rms"
-    why = " (battery plus two diode drops)" if ta.kind == "battery" else " (target plus two diode drops)"
+    """A battery's cut-in: the speed, the rectified voltage that defines it, and the AC
+    voltage a meter reads there (the one the test plan expects)."""
+    pr = design.prediction
+    rpm = cut_in_rpm_stated(design)
+    v = summary_voltages(design)["open circuit", rpm]
     return (
-        f"{pr.cut_in_rpm:.0f} rpm: the rectified open-circuit voltage reaches {pr.cut_in_voltage_v:.1f} V"
-        + why
+        f"{rpm:g} rpm: the rectified open-circuit voltage reaches {pr.cut_in_voltage_v:.1f} V "
+        f"(battery plus two diode drops), {v:.1f} V {_line_word(design)} rms"
     )
 
 
@@ -82,6 +100,16 @@ _CAUTIONS = (
         "stator's temperature in the first long runs (see the test plan).",
     ),
 )
+# An AC-line load has no rectifier: its heat rule names what it does have.
+_LINE_HEAT = (
+    "Coils and load get hot: check the stator's temperature in the first long runs (see the test plan)."
+)
+
+
+def _cautions(design: Design) -> tuple[tuple[str, str], ...]:
+    if design.spec.target.kind != "ac_line":
+        return _CAUTIONS
+    return tuple((g, _LINE_HEAT if g == "Heat" else rule) for g, rule in _CAUTIONS)
 
 
 def _summary(ctx: _Ctx, files: Files | None) -> list:
@@ -89,10 +117,12 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
     spec, lay, pr = d.spec, d.layout, d.prediction
     ta = spec.target
     rated = pr.rated
+    volts = summary_voltages(d)
     out = [_p(ctx, f"{spec.name}: build sheet", "h1"), _p(ctx, spec.purpose)]
     phase_v = "" if lay.phases == 1 else f" ({pr.open_circuit_phase_rms_v:.1f} V per phase)"
-    line = "line" if lay.phases == 3 else "terminal"
+    line = _line_word(d)
     output_kind = "AC line" if ta.kind == "ac_line" else "DC"
+    losses = "copper losses" if ta.kind == "ac_line" else "copper and rectifier losses"
     rows = [
         (
             "machine",
@@ -107,15 +137,16 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
         ("target", _target_words(d)),
         (
             f"open-circuit voltage at {ta.rated_rpm:g} rpm",
-            f"{pr.open_circuit_line_rms_v:.1f} V {line} rms{phase_v}; "
-            f"{pr.open_circuit_line_rms_at_max_v:.0f} V at {ta.max_rpm:g} rpm (the highest speed)",
+            f"{volts['open circuit', ta.rated_rpm]:.1f} V {line} rms{phase_v}; "
+            f"{volts['open circuit', ta.max_rpm]:.0f} V at {ta.max_rpm:g} rpm (the highest speed)",
         ),
         *([("cut-in", _cut_in_words(d))] if ta.kind == "battery" else []),
         (
             f"rated output at {rated.rpm:g} rpm",
-            f"{rated.dc_voltage_v:.1f} V, {rated.dc_current_a:.2f} A, {rated.dc_power_w:.0f} W {output_kind}",
+            f"{volts['loaded', rated.rpm]:.1f} V, {rated.dc_current_a:.2f} A, {rated.dc_power_w:.0f} W "
+            + output_kind,
         ),
-        ("efficiency at rated speed", f"{rated.efficiency:.0%} (copper and rectifier losses)"),
+        ("efficiency at rated speed", f"{rated.efficiency:.0%} ({losses})"),
         (
             "phase resistance at 20 °C",
             f"{_fmt_ohm(pr.phase_resistance_ohm)} per phase; {_fmt_ohm(pr.coil_resistance_ohm)} per coil",
@@ -145,7 +176,7 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
         group = by_group.setdefault(_caution_group(w.code), [])
         group.append(f"{w.severity.upper()}: {w.message}")
         group.extend(f"– {line}" for line in suggestion_lines(d, w.code))
-    for group, rule in _CAUTIONS:
+    for group, rule in _cautions(d):
         out.append(_pm(ctx, f"<b>{escape(group)}.</b> {escape(rule)}", "caution"))
         out.extend(_p(ctx, m, "caution") for m in by_group.get(group, ()))
     if by_group.get("Design"):

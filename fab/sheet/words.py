@@ -1,5 +1,6 @@
-"""Words and bands more than one page takes from the design: terminal names, wire, magnets,
-pockets and discs, the tolerance bands of the bench checks, and the closing advice.
+"""Words, bands and figures more than one page takes from the design: terminal names, wire,
+magnets, pockets and discs, the open-circuit voltage at a speed, the tolerance bands of the
+bench checks, and the closing advice.
 """
 
 from __future__ import annotations
@@ -18,6 +19,28 @@ PHASE_MATCH_PCT = 3  # the three phases of a sound winding agree this closely (c
 
 def _band(value: float, pct: float) -> tuple[float, float]:
     return value * (1 - pct / 100), value * (1 + pct / 100)
+
+
+def open_circuit_rms_v(design: Design, rpm: float) -> float:
+    """Open-circuit voltage across the terminals (line to line for three phases), rms, at `rpm`.
+
+    The prediction's own figures at the rated and the highest speed; at any other speed the
+    rated one in proportion to speed, as the EMF of a permanent-magnet machine is (layout.emf
+    works per rad/s). Every page that states an open-circuit voltage takes it from here, so
+    the summary and the test plan cannot disagree.
+    """
+    pr = design.prediction
+    if rpm == pr.max_rpm:
+        return pr.open_circuit_line_rms_at_max_v
+    return pr.open_circuit_line_rms_v * rpm / pr.rated_rpm
+
+
+def cut_in_rpm_stated(design: Design) -> float | None:
+    """The cut-in speed as the pages state it and the bench checks it (whole rpm); None but
+    for a battery, the only load that holds a voltage for the machine to reach."""
+    if design.spec.target.kind != "battery":
+        return None
+    return float(round(design.prediction.cut_in_rpm))
 
 
 _terminals = terminal_pair
