@@ -14,6 +14,7 @@ from layout.model import Prediction, predict
 from layout.pairs import balanced_alternatives
 from layout.safety import DELTA_LOOP_SHARE, Warning, collect_warnings
 from layout.spec import DesignError, Spec, with_value
+from layout.steel import PlateFlux, plate_flux
 from layout.winding import Layout, layout_notes, span_pitch_factor, star_of_slots
 
 if TYPE_CHECKING:
@@ -85,7 +86,7 @@ def winding_layout(spec: Spec) -> Layout:
 
 
 def _as_star(
-    spec: Spec, geo: Geometry, lay: Layout, link: CoilLinkage, pred: Prediction
+    spec: Spec, geo: Geometry, lay: Layout, link: CoilLinkage, pred: Prediction, plate: PlateFlux | None
 ) -> Prediction | None:
     """The same machine connected in star, where its delta loses enough to a circulating
     current to be warned of (the field and coils are unchanged: only EMF and output re-run)."""
@@ -94,7 +95,7 @@ def _as_star(
         return None
     try:
         star = with_value(spec, "connection.kind", "star")
-        return predict(star, geo, lay, phase_emf(link, lay, "star"))
+        return predict(star, geo, lay, phase_emf(link, lay, "star"), plate)
     except DesignError:
         return None
 
@@ -106,9 +107,10 @@ def compute_design(spec: Spec) -> Design:
     fmap = flux_map(geo, spec.magnets.count)
     link = coil_linkage(geo, fmap, spec.magnets.count)
     emf = phase_emf(link, lay, spec.connection.kind)
-    pred = predict(spec, geo, lay, emf)
+    plate = plate_flux(spec, geo, fmap.sources)
+    pred = predict(spec, geo, lay, emf, plate)
     forces = compute_forces(spec, geo, fmap.sources, fmap.peak_bz_t)
-    warnings = collect_warnings(spec, lay, pred, forces, _as_star(spec, geo, lay, link, pred))
+    warnings = collect_warnings(spec, lay, pred, forces, _as_star(spec, geo, lay, link, pred, plate))
     return Design(
         spec=spec,
         layout=lay,

@@ -53,11 +53,18 @@ def magnet_mass_g(spec: Spec) -> float:
     return vol_mm3 * 1e-3 * density
 
 
+def pole_band_mm(spec: Spec) -> tuple[float, float]:
+    """Inner and outer radius (mm) of the band where the magnets' field reaches a steel face:
+    their radial extent, plus twice the running clearance and 5 mm of fringe each side."""
+    mg = spec.magnets
+    half = magnet_radial_extent_mm(mg) / 2 + 2 * spec.rotor.running_clearance_mm + 5.0
+    return max(mg.pitch_radius_mm - half, 1e-3), mg.pitch_radius_mm + half
+
+
 def _pole_grid(spec: Spec, z: float, nr: int = 16, nt: int = 10):
     """Cell centres and areas (mm²) over one pole pitch, across the magnets' radial band."""
     mg = spec.magnets
-    half = magnet_radial_extent_mm(mg) / 2 + 2 * spec.rotor.running_clearance_mm + 5.0
-    r0, r1 = max(mg.pitch_radius_mm - half, 1e-3), mg.pitch_radius_mm + half
+    r0, r1 = pole_band_mm(spec)
     dr = (r1 - r0) / nr
     r = r0 + dr * (np.arange(nr) + 0.5)
     pole = 2 * math.pi / mg.count

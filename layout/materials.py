@@ -102,6 +102,16 @@ BINDER_DENSITY_G_CM3: dict[str, float] = {
     **{b: DISC_MATERIALS[b].density_g_cm3 for b in STATOR_BINDERS_MAX_C if b in DISC_MATERIALS},
 }
 
+# Plain (mild, low-carbon) steel plate as a solid conductor of flux, for the losses of a
+# stationary plate under the moving magnets (layout.steel). Resistivity of low-carbon steel
+# at room temperature is about 0.14–0.20 µΩ·m, so σ ≈ 5–7 MS/m; 6 MS/m is taken (from
+# memory). The limiting theory replaces the B–H curve by a step at a saturation level
+# B_s; for mild steel the knee lies about 1.5–1.8 T, 1.6 T is taken (from memory). Its
+# coercivity, for the hysteresis part, about 100–300 A/m (from memory).
+STEEL_CONDUCTIVITY_S_M = 6.0e6
+STEEL_SATURATION_T = 1.6
+STEEL_COERCIVITY_A_M = 200.0
+
 # Annealed copper, IEC 60028: resistivity 1/58 Ω·mm²/m at 20 °C, temperature coefficient
 # 0.00393 /K at 20 °C.
 COPPER_RESISTIVITY_20C_OHM_MM2_PER_M = 1.0 / 58.0

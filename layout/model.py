@@ -16,6 +16,7 @@ from layout.emf import PhaseEmf, rms, thd
 from layout.geometry import Geometry
 from layout.materials import COPPER_DENSITY_G_CM3
 from layout.spec import Spec, unit_slip_hint
+from layout.steel import PlateFlux
 from layout.winding import Layout, electrical_hz
 from layout.wire import (
     Wire,
@@ -107,6 +108,8 @@ class OperatingPoint:
     open_circuit_line_rms_v: float
     temperature_over_cap: bool = False  # the steady state lies above TEMPERATURE_CAP_C
     loop_loss_w: float = 0.0  # part of copper_loss_w: current circulating round a closed delta
+    steel_loss_w: float = 0.0  # eddy and hysteresis loss of a stationary steel plate
+    shaft_power_w: float = 0.0  # mechanical input: output plus every loss
 
     @property
     def temperature_words(self) -> str:
@@ -272,8 +275,14 @@ def _loop_current_rms(spec, layout, emf, turns, r_phase, l_phase, rpm) -> np.nda
     return np.sqrt(((e0_k / np.hypot(r, x_k)) ** 2).sum(axis=1))
 
 
-def predict(spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf) -> Prediction:
-    """Size the winding for the target and predict its output over the speed range."""
+def predict(
+    spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf, plate: PlateFlux | None = None
+) -> Prediction:
+    """Size the winding for the target and predict its output over the speed range.
+
+    `plate`: the flux a stationary steel plate carries (layout.steel), whose eddy and
+    hysteresis loss drags on the rotor and heats the stator; None where no steel stands still.
+    """
     ta = spec.target
     vf = ta.diode_drop_v
     per_turn_peak = _rectified_peak_per_turn(emf)
@@ -281,7 +290,7 @@ def predict(spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf) -> Predict
         v_cut = ta.battery_v + 2 * vf
         turns = max(1, round(v_cut / (per_turn_peak * _omega(ta.cut_in_rpm))))
         load = Load("battery", ta.battery_resistance_ohm, ta.battery_v)
-        return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak)
+        return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate)
     # A loaded target must hold with the coils warm: size at ambient, then again at the
     # coil temperature the rated point reaches, until the rated point meets the target.
     size_c = ta.ambient_c
@@ -294,14 +303,14 @@ def predict(spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf) -> Predict
             v_cut = ta.voltage_v * math.sqrt(2)
             turns = _turns_for_ac(spec, geo, layout, emf, size_c)
             load = None
-        pred = _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak)
+        pred = _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate)
         if pred.rated.dc_voltage_v >= ta.voltage_v * (1 - 1e-9):
             break
         size_c = pred.rated.coil_temperature_c
     return pred
 
 
-def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Prediction:
+def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate) -> Prediction:
     """Wire, R, L and the output curve for a given number of turns."""
     ta = spec.target
     star = spec.connection.kind == "star"
@@ -322,10 +331,14 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
     phases = layout.phases
     line_rms_per = float(rms(emf.line_v[0])) * turns
     conductance = FACE_HEAT_TRANSFER_W_M2K * area
+    # The plate is cast against the stator: its loss is taken as the stator's heat too
+    # (pessimistic, as some leaves from the plate's back).
+    steel_w = plate.loss_w(_omega(rpms) * layout.pole_pairs) if plate is not None else np.zeros(len(rpms))
     if load is not None:
 
         def loss(idx, t):
-            return _simulate(spec, layout, emf, turns, r_phase, l_phase, rpms[idx], load, t).copper_loss_w
+            sim = _simulate(spec, layout, emf, turns, r_phase, l_phase, rpms[idx], load, t)
+            return sim.copper_loss_w + steel_w[idx]
 
         temps, over = settle_temperature(loss, ambient, conductance, len(rpms))
         res = _simulate(spec, layout, emf, turns, r_phase, l_phase, rpms, load, temps)
@@ -343,7 +356,10 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
             _e, i, v, i0 = _ac_line_output(spec, layout, emf, turns, r_hot, l_phase, rpms[idx], load_ohm)
             return i, v, phases * (i**2 + i0**2) * r_hot, i0
 
-        temps, over = settle_temperature(lambda i, t: ac_line(i, t)[2], ambient, conductance, len(rpms))
+        def heat(idx, t):
+            return ac_line(idx, t)[2] + steel_w[idx]
+
+        temps, over = settle_temperature(heat, ambient, conductance, len(rpms))
         i_load, v_ph, cu_w, i_loop = ac_line(np.arange(len(rpms)), temps)
         i_ph = np.hypot(i_load, i_loop)
         dc_p = phases * i_load**2 * load_ohm
@@ -353,7 +369,8 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
         src = dc_p + cu_w
     r_hot = r_phase * copper_resistivity(temps) / copper_resistivity(20.0)
     loop_w = phases * _loop_current_rms(spec, layout, emf, turns, r_hot, l_phase, rpms) ** 2 * r_hot
-    eff = np.where(src > 1e-9, dc_p / np.maximum(src, 1e-12), 0.0)
+    shaft = src + steel_w
+    eff = np.where(shaft > 1e-9, dc_p / np.maximum(shaft, 1e-12), 0.0)
     density = i_ph / layout.parallel_paths / wire.copper_mm2
     curve = tuple(
         OperatingPoint(
@@ -370,6 +387,8 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak) -> Pred
             open_circuit_line_rms_v=float(line_rms_per * _omega(rpms[k])),
             temperature_over_cap=bool(over[k]),
             loop_loss_w=float(loop_w[k]),
+            steel_loss_w=float(steel_w[k]),
+            shaft_power_w=float(shaft[k]),
         )
         for k in range(len(rpms))
     )

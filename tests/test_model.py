@@ -168,10 +168,12 @@ def test_unreachable_dc_target_names_the_voltage_in_one_line():
 @pytest.mark.parametrize("name", DEMOS)
 def test_energy_balance_at_every_curve_point(name):
     # Conservation of energy over a steady period: what the EMFs deliver goes to the load,
-    # the copper and the diodes (the inductance returns what it stores).
+    # the copper and the diodes (the inductance returns what it stores); the shaft also
+    # drives any stationary steel's loss.
     for op in design(name).prediction.curve:
         assert 0.0 <= op.efficiency <= 1.0
-        losses = op.dc_power_w + op.copper_loss_w + op.rectifier_loss_w
+        losses = op.dc_power_w + op.copper_loss_w + op.rectifier_loss_w + op.steel_loss_w
+        assert op.shaft_power_w == pytest.approx(losses, rel=0.01, abs=1e-6)
         if op.dc_power_w < 1e-6:  # below cut-in: rounding-level currents only
             assert op.efficiency == pytest.approx(0.0, abs=1e-6)
             continue
@@ -356,11 +358,12 @@ def test_coil_temperature_is_a_converged_fixed_point(demo):
     for op in pr.curve:
         if op.temperature_over_cap:
             assert op.coil_temperature_c == TEMPERATURE_CAP_C
-            assert ta.ambient_c + op.copper_loss_w / g > TEMPERATURE_CAP_C  # the heat balance says so
+            assert ta.ambient_c + (op.copper_loss_w + op.steel_loss_w) / g > TEMPERATURE_CAP_C
             assert "means nothing" in op.temperature_words
             continue
         # The heat balance holds at the reported temperature ...
-        assert op.coil_temperature_c == pytest.approx(ta.ambient_c + op.copper_loss_w / g, abs=0.1)
+        heat = op.copper_loss_w + op.steel_loss_w  # a stationary plate is cast against the stator
+        assert op.coil_temperature_c == pytest.approx(ta.ambient_c + heat / g, abs=0.1)
         if ta.kind == "ac_line":
             continue
         # ... and the currents are those of the circuit with the copper at that temperature,
