@@ -29,6 +29,14 @@ INSULATION_TEST_LV_V = 500  # and for windings whose open-circuit voltage exceed
 INSULATION_MIN_MOHM = 1.0  # windings to frame, low-voltage machines (common practice)
 
 
+def _losses_words(op, bridge: bool) -> str:
+    """The losses an operating point has, for a reader: "copper, rectifier and steel losses"."""
+    names = (
+        ["copper"] + (["rectifier"] if bridge else []) + (["stationary steel"] if op.steel_loss_w > 0 else [])
+    )
+    return (", ".join(names[:-1]) + " and " + names[-1] if len(names) > 1 else names[0]) + " losses"
+
+
 def above_extra_low_voltage(pred: Prediction) -> bool:
     """True when the open-circuit voltage at max_rpm exceeds the IEC 61140 extra-low limits."""
     return pred.open_circuit_line_rms_at_max_v > ELV_AC_V or pred.open_circuit_dc_peak_at_max_v > ELV_DC_V
@@ -67,21 +75,24 @@ def collect_warnings(
 
     v_ac = pred.open_circuit_line_rms_at_max_v
     v_dc = pred.open_circuit_dc_peak_at_max_v
+    # Bridge words only where there is a bridge: an AC-line load sees the line's peak.
+    bridge = ta.kind != "ac_line"
+    peak = f"{v_dc:.0f} V rectified" if bridge else f"{v_dc:.0f} V peak"
     if above_extra_low_voltage(pred):
         add(
             "voltage.above_elv",
             "danger",
-            f"Open-circuit voltage at {ta.max_rpm:g} rpm is {v_ac:.0f} V AC line ({v_dc:.0f} V "
-            f"rectified), above extra-low voltage (IEC 61140: {ELV_AC_V:g} V AC, {ELV_DC_V:g} V DC): "
-            "a shock can kill. Enclose terminals and rectifier, fit a dump load or brake so the "
-            f"machine cannot run away unloaded, and {DEFER}.",
+            f"Open-circuit voltage at {ta.max_rpm:g} rpm is {v_ac:.0f} V AC line ({peak}), above "
+            f"extra-low voltage (IEC 61140: {ELV_AC_V:g} V AC, {ELV_DC_V:g} V DC): a shock can kill. "
+            f"Enclose terminals and {'rectifier' if bridge else 'wiring'}, fit a dump load or brake "
+            f"so the machine cannot run away unloaded, and {DEFER}.",
         )
     else:
         add(
             "voltage.open_circuit",
             "info",
-            f"Open-circuit voltage at {ta.max_rpm:g} rpm is {v_ac:.0f} V AC line ({v_dc:.0f} V "
-            "rectified), within extra-low voltage; it rises with speed, so never let the "
+            f"Open-circuit voltage at {ta.max_rpm:g} rpm is {v_ac:.0f} V AC line ({peak}), within "
+            "extra-low voltage; it rises with speed, so never let the "
             f"machine run faster unloaded, and {DEFER}.",
         )
     if forces.hoop_safety_factor < HOOP_SAFETY_FACTOR:
@@ -197,8 +208,8 @@ def collect_warnings(
         add(
             "output.low_efficiency",
             "warning",
-            f"Efficiency at {rated.rpm:g} rpm is {rated.efficiency:.0%}: copper and rectifier "
-            f"losses eat the output{why}.",
+            f"Efficiency at {rated.rpm:g} rpm is {rated.efficiency:.0%}: {_losses_words(rated, bridge)} "
+            f"eat the output{why}.",
         )
     loop = rated.loop_loss_w
     if loop > DELTA_LOOP_SHARE * max(rated.dc_power_w, 1e-9) and rated.dc_power_w > 0:

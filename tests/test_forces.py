@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import math
-import re
 
 import pytest
 from demos import DEMOS, design, variant
@@ -187,12 +186,15 @@ def test_thin_plate_warns_of_saturation_and_the_needed_thickness_cures_it():
     assert "steel.saturation" not in {w.code for w in cured.warnings}
 
 
-def test_thickness_named_in_the_saturation_message_cures_it():
+def test_thickness_the_advice_names_for_saturation_cures_it():
+    from layout.advice import suggest
+
     thin = design("millrace", ("rotor.disc_thickness_mm", 3.0))
-    message = next(w.message for w in thin.warnings if w.code == "steel.saturation")
-    named = float(re.search(r"at least ([0-9.]+) mm", message).group(1))
-    cured = design("millrace", ("rotor.disc_thickness_mm", named))
-    assert "steel.saturation" not in {w.code for w in cured.warnings}
+    offered = [s for s in suggest(thin) if s.code == "steel.saturation"]
+    assert offered and all(s.key == "rotor.disc_thickness_mm" for s in offered)
+    for s in offered:
+        cured = design("millrace", ("rotor.disc_thickness_mm", s.to))
+        assert "steel.saturation" not in {w.code for w in cured.warnings}
 
 
 def test_thin_stator_plate_is_the_plate_that_saturates():

@@ -184,3 +184,14 @@ def test_insulation_test_voltage_rises_above_extra_low_voltage(demo):
     assert above_extra_low_voltage(pr) == high
     assert insulation_test_v(pr) == (500 if high else 250)  # common practice
     assert any(w.code == "voltage.above_elv" for w in design(demo).warnings) == high
+
+
+def test_ac_line_warnings_have_no_bridge_words():
+    # An AC-line load has no bridge: no warning may speak of a rectifier or rectified volts.
+    from test_model import DELTA_AC
+
+    for kind in ("delta", "star"):
+        d = design(*DELTA_AC[:3], ("connection.kind", kind), *DELTA_AC[4:], ("target.max_rpm", 2000.0))
+        assert "voltage.above_elv" in codes(d)
+        for w in d.warnings:
+            assert not re.search(r"rectif|bridge|diode", w.message, re.IGNORECASE), w.code
