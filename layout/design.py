@@ -95,7 +95,7 @@ def _as_star(
         return None
     try:
         star = with_value(spec, "connection.kind", "star")
-        return predict(star, geo, lay, phase_emf(link, lay, "star"), plate)
+        return predict(star, geo, lay, phase_emf(link, lay, "star"), plate, rated_only=True)
     except DesignError:
         return None
 

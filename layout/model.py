@@ -276,12 +276,18 @@ def _loop_current_rms(spec, layout, emf, turns, r_phase, l_phase, rpm) -> np.nda
 
 
 def predict(
-    spec: Spec, geo: Geometry, layout: Layout, emf: PhaseEmf, plate: PlateFlux | None = None
+    spec: Spec,
+    geo: Geometry,
+    layout: Layout,
+    emf: PhaseEmf,
+    plate: PlateFlux | None = None,
+    rated_only: bool = False,
 ) -> Prediction:
     """Size the winding for the target and predict its output over the speed range.
 
     `plate`: the flux a stationary steel plate carries (layout.steel), whose eddy and
     hysteresis loss drags on the rotor and heats the stator; None where no steel stands still.
+    `rated_only`: the curve holds the rated point alone (a quick comparison).
     """
     ta = spec.target
     vf = ta.diode_drop_v
@@ -290,7 +296,7 @@ def predict(
         v_cut = ta.battery_v + 2 * vf
         turns = max(1, round(v_cut / (per_turn_peak * _omega(ta.cut_in_rpm))))
         load = Load("battery", ta.battery_resistance_ohm, ta.battery_v)
-        return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate)
+        return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only)
     # A loaded target must hold with the coils warm: size at ambient, then again at the
     # coil temperature the rated point reaches, until the rated point meets the target.
     size_c = ta.ambient_c
@@ -303,14 +309,16 @@ def predict(
             v_cut = ta.voltage_v * math.sqrt(2)
             turns = _turns_for_ac(spec, geo, layout, emf, size_c)
             load = None
-        pred = _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate)
+        pred = _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only)
         if pred.rated.dc_voltage_v >= ta.voltage_v * (1 - 1e-9):
             break
         size_c = pred.rated.coil_temperature_c
     return pred
 
 
-def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate) -> Prediction:
+def _evaluate(
+    spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only=False
+) -> Prediction:
     """Wire, R, L and the output curve for a given number of turns."""
     ta = spec.target
     star = spec.connection.kind == "star"
@@ -324,7 +332,7 @@ def _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate) 
         )
     wire, r_coil, l_coil, r_phase, l_phase = cu
     cut_in = v_cut / (per_turn_peak * turns) * 60 / (2 * math.pi)
-    rpms = _curve_rpms(spec, cut_in)
+    rpms = np.array([float(ta.rated_rpm)]) if rated_only else _curve_rpms(spec, cut_in)
     ambient = ta.ambient_c
     area = _cooling_area_m2(geo, spec)
     n_coils = len(layout.coils)
