@@ -467,9 +467,10 @@ def _warnings_text(design: Design) -> str:
         lines += [f"    {line}" for line in suggestion_lines(design, w.code)]
     pending = advised_codes(design) if design.suggestions is None else ()
     if pending:
+        which = f"{pending[0]} has" if len(pending) == 1 else f"{', '.join(pending)} have"
         lines.append(
-            f"{len(pending)} of these ({', '.join(pending)}) have changes the model can try: "
-            f"statorsmith plan --suggest {design.spec.source} re-runs it for each and lists those that help."
+            f"{which} changes the model can try: run plan with --suggest to re-run it on each "
+            "and list those that help."
         )
     lines.append(
         "This is a design aid: check every figure before building, and defer to local codes "

@@ -89,7 +89,7 @@ def test_plan_offers_suggest_and_suggest_lists_checked_changes(run):
     path = DESIGNS / "hilltop.toml"
     plain = run("plan", path)
     assert plain.returncode == 0
-    assert "plan --suggest" in plain.stdout and "    try " not in plain.stdout
+    assert "run plan with --suggest" in plain.stdout and "    try " not in plain.stdout
     assert "use parallel paths" not in plain.stdout.lower()
     assert "thicker wire" not in plain.stdout.lower()
     data = json.loads(run("plan", "--json", path).stdout)
