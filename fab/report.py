@@ -198,6 +198,8 @@ def electrical_json(design: Design) -> dict:
                 "copper_loss_w": _r(op.copper_loss_w, 3),
                 "rectifier_loss_w": _r(op.rectifier_loss_w, 3),
                 "delta_loop_loss_w": _r(op.loop_loss_w, 3),  # part of copper_loss_w
+                "stationary_steel_w": _r(op.steel_loss_w, 3),
+                "shaft_power_w": _r(op.shaft_power_w, 3),
                 "phase_current_rms_a": _r(op.phase_current_rms_a, 4),
                 "current_density_a_mm2": _r(op.current_density_a_mm2, 3),
                 # null where the steady state lies past the cap: no figure is claimed there
@@ -390,6 +392,7 @@ def _output_text(design: Design) -> str:
         f"at {ta.max_rpm:g} rpm {pr.open_circuit_line_rms_at_max_v:.0f} V line",
     ]
     ac = ta.kind == "ac_line"
+    plate = any(op.steel_loss_w > 0 for op in pr.curve)  # a stationary steel plate
     headings = [
         "rpm",
         "V_ac_line" if ac else "V_dc",
@@ -397,6 +400,8 @@ def _output_text(design: Design) -> str:
         "P_w",
         "copper_w",
         *([] if ac else ["rectifier_w"]),  # a line load has no bridge
+        *(["steel_w"] if plate else []),
+        "shaft_w",
         "efficiency",
         "A/mm2",
         "coil_c",
@@ -409,6 +414,8 @@ def _output_text(design: Design) -> str:
             op.dc_power_w,
             op.copper_loss_w,
             *([] if ac else [op.rectifier_loss_w]),
+            *([op.steel_loss_w] if plate else []),
+            op.shaft_power_w,
             op.efficiency,
             op.current_density_a_mm2,
             f">{TEMPERATURE_CAP_C:g}" if op.temperature_over_cap else int(round(op.coil_temperature_c)),
@@ -420,6 +427,11 @@ def _output_text(design: Design) -> str:
         note = (
             f"\ncoil_c >{TEMPERATURE_CAP_C:g}: the coils would pass every enamel's rating there; "
             "the estimate means nothing past it, and the currents shown assume the cap."
+        )
+    if plate:
+        note += (
+            "\nsteel_w: eddy and hysteresis loss of the stationary steel plate under the moving "
+            "magnets (limiting theory, a rough estimate); efficiency is output over shaft_w."
         )
     return "\n".join(head) + "\n" + table(headings, rows) + note
 

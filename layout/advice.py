@@ -26,7 +26,7 @@ from dataclasses import dataclass
 
 from layout.design import Design, compute_design
 from layout.materials import DISC_MATERIALS, MAGNET_GRADES
-from layout.spec import DesignError, Spec, with_value
+from layout.spec import DesignError, Spec, with_values
 
 MAX_SUGGESTIONS = 3
 # A change that cures a warning by giving up more than this share of the rated output is
@@ -50,13 +50,18 @@ class Suggestion:
     rated_rpm: float
     clears: bool  # the warning is no longer raised
     brings: tuple[str, ...]  # warning codes the change raises that the design had not
+    also: tuple[tuple[str, object], ...] = ()  # keys the change needs with it (None: left out)
+    note: str = ""  # what the change means for the build, where the key alone does not say
 
     @property
     def words(self) -> str:
         """One line: "stator.thickness_mm = 12 → 15: 4.6 A/mm² (now 5.9 A/mm²), 265 W at 260 rpm
         (now 270 W)", and what it costs."""
+        with_ = "".join(f" without {k}" if v is None else f" with {k} = {_show(v)}" for k, v in self.also)
         text = (
-            f"{self.key} = {_show(self.was)} → {_show(self.to)}: {self.result} (now {self.before}), "
+            f"{self.key} = {_show(self.was)} → {_show(self.to)}{with_}"
+            + (f" ({self.note})" if self.note else "")
+            + f": {self.result} (now {self.before}), "
             f"{self.rated_power_w:.0f} W at {self.rated_rpm:g} rpm (now {self.rated_power_now_w:.0f} W)"
         )
         if self.clears:
@@ -124,6 +129,10 @@ FIGURES: dict[str, _Figure] = {
     "disc.hoop_stress": _Figure(
         "", lambda d: d.forces.hoop_safety_factor, +1, 0.05, "hoop safety factor ",
         lambda d: f"{d.forces.hoop_safety_factor:.1f}",
+    ),
+    "steel.stationary_loss": _Figure(
+        "W", lambda d: _rated(d).steel_loss_w, -1, 1.0, "plate loss ",
+        lambda d: f"{_rated(d).steel_loss_w:.0f} W",
     ),
     "steel.saturation": _Figure(
         "T", lambda d: d.forces.steel_peak_b_t or 0.0, -1, 0.01, "steel ",
@@ -207,6 +216,14 @@ def _thicker_steel(design: Design) -> Iterable[tuple[str, object]]:
     yield key, _up(f.steel_needed_mm, 1.0) + 2.0
 
 
+def _no_standing_steel(design: Design) -> Iterable[tuple[str, object]]:
+    """Steel that turns with the magnets, or none, in place of the stationary plate."""
+    if design.spec.rotor.topology == "one_disc_steel_stator":
+        note = f"a second disc of {design.spec.magnets.count} magnets in place of the plate"
+        yield "rotor.topology", "two_discs", (("rotor.stator_plate_thickness_mm", None),), note
+    yield "stator.thickness_mm", _up(design.spec.stator.thickness_mm, 1.25)
+
+
 CANDIDATES: dict[str, tuple[Callable[[Design], Iterable[tuple[str, object]]], ...]] = {
     "coil.current_density": (_more_copper, _higher_cut_in),
     "coil.temperature": (_more_copper, _higher_cut_in),
@@ -215,6 +232,7 @@ CANDIDATES: dict[str, tuple[Callable[[Design], Iterable[tuple[str, object]]], ..
     "turns.cut_in": (_finer_turns,),
     "disc.hoop_stress": (_stronger_disc,),
     "steel.saturation": (_thicker_steel,),
+    "steel.stationary_loss": (_no_standing_steel,),
 }
 
 
@@ -240,7 +258,7 @@ def suggest(
     used by several warnings is computed once.
     """
     spec = design.spec
-    tried: dict[tuple[str, object], Design | None] = {}
+    tried: dict[tuple, Design | None] = {}
     out: list[Suggestion] = []
     before_codes = {w.code for w in design.warnings}
     for code in advised_codes(design):
@@ -248,15 +266,17 @@ def suggest(
         now = fig.value(design)
         found = []
         for make in CANDIDATES[code]:
-            for key, to in make(design):
+            for key, to, *rest in make(design):
+                also, note = (tuple(rest) + ((), ""))[:2] if rest else ((), "")
                 was = _current_value(spec, key)
                 if to == was:
                     continue
-                if (key, to) not in tried:
+                change = ((key, to), *also)
+                if change not in tried:
                     if progress:
                         progress(f"{key} = {_show(to)}")
-                    tried[key, to] = _rerun(spec, key, to, accept)
-                new = tried[key, to]
+                    tried[change] = _rerun(spec, change, accept)
+                new = tried[change]
                 if new is None or any(s.key == key and s.to == to for s in found):
                     continue
                 value = fig.value(new)
@@ -273,6 +293,8 @@ def suggest(
                         key=key,
                         was=was,
                         to=to,
+                        also=also,
+                        note=note,
                         value=value,
                         now=now,
                         unit=fig.unit,
@@ -290,10 +312,10 @@ def suggest(
     return tuple(out)
 
 
-def _rerun(spec: Spec, key: str, to: object, accept) -> Design | None:
+def _rerun(spec: Spec, change, accept) -> Design | None:
     """The whole model on the changed design; None where the change is not allowed or fails."""
     try:
-        new = compute_design(with_value(spec, key, to))
+        new = compute_design(with_values(spec, change))
         if accept is not None:
             accept(new)
     except DesignError:

@@ -19,6 +19,7 @@ ELV_AC_V = 50.0
 ELV_DC_V = 120.0
 CURRENT_DENSITY_STILL_AIR_A_MM2 = 5.0  # hand-wound coils in still air: 3–5 A/mm² (common practice)
 CURRENT_DENSITY_CAST_A_MM2 = 4.0  # coils cast in resin shed heat worse (common practice)
+STEEL_LOSS_SHARE = 0.1  # a stationary plate's loss worth a warning, share of shaft input (our choice)
 DELTA_LOOP_SHARE = 0.03  # a delta's circulating loss worth a warning, share of output (our choice)
 PACEMAKER_DISTANCE_MM = 150  # keep strong magnets this far from implants (from memory)
 DEFER = "follow local codes and have a licensed electrician check the installation"
@@ -228,6 +229,15 @@ def collect_warnings(
             f"that never reaches "
             f"the load: {loop:.0f} W of copper loss at {rated.rpm:g} rpm, "
             f"{loop / rated.dc_power_w:.0%} of the output.{instead}",
+        )
+    if rated.steel_loss_w > STEEL_LOSS_SHARE * max(rated.shaft_power_w, 1e-9):
+        add(
+            "steel.stationary_loss",
+            "warning",
+            f"The stationary steel plate behind the stator loses about {rated.steel_loss_w:.0f} W at "
+            f"{rated.rpm:g} rpm to eddy currents and hysteresis under the moving magnets, "
+            f"{rated.steel_loss_w / rated.shaft_power_w:.0%} of the shaft input (a rough estimate): "
+            "it drags on the rotor and heats the stator.",
         )
     slip = unit_slip_hint(spec)
     if slip:

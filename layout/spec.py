@@ -303,11 +303,21 @@ def with_value(spec: Spec, dotted: str, value: object) -> Spec:
     Raises DesignError when the new value is out of range or breaks a rule that ties keys
     together; the original spec is not touched.
     """
-    section, key = dotted.split(".")
-    f = {f.name: f for f in dataclasses.fields(_SECTIONS[section])}[key]
-    number = _read_value(spec.source, dotted, value, f)
-    table = dataclasses.replace(getattr(spec, section), **{key: number})
-    new = dataclasses.replace(spec, **{section: table})
+    return with_values(spec, ((dotted, value),))
+
+
+def with_values(spec: Spec, changes) -> Spec:
+    """The design with several ("section.key", value) changes, each checked as the file would
+    be and the rules that tie keys together checked once after all of them. None leaves out
+    an optional key (as if the file did not give it)."""
+    new = spec
+    for dotted, value in changes:
+        section, key = dotted.split(".")
+        f = {f.name: f for f in dataclasses.fields(_SECTIONS[section])}[key]
+        optional = value is None and f.default is None
+        number = None if optional else _read_value(spec.source, dotted, value, f)
+        table = dataclasses.replace(getattr(new, section), **{key: number})
+        new = dataclasses.replace(new, **{section: table})
     _check_consistency(new)
     return new
 

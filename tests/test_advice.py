@@ -10,7 +10,7 @@ from demos import DESIGNS, design, variant
 from fab.fit import check_parts
 from layout.advice import CANDIDATES, FIGURES, MAX_OUTPUT_LOSS, MAX_SUGGESTIONS, suggest
 from layout.design import compute_design
-from layout.spec import DesignError, with_value
+from layout.spec import DesignError, with_value, with_values
 
 # Designs of our own that raise each warning with changes to try.
 FLAGGED = [
@@ -32,7 +32,7 @@ def test_every_offered_change_helps_when_rerun_from_the_file_values(advised):
     assert found, "each of these designs has a change that helps"
     for s in found:
         # Re-run from scratch, the way a builder would after editing the file.
-        new = compute_design(with_value(d.spec, s.key, s.to))
+        new = compute_design(with_values(d.spec, ((s.key, s.to), *s.also)))
         check_parts(new)
         fig = FIGURES[s.code]
         assert (fig.value(new) - fig.value(d)) * fig.better > fig.resolution, s.words

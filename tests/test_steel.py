@@ -80,3 +80,31 @@ def test_limiting_cases():
     assert limiting_loss_from_flux_w_m2(0.005, 200.0, 6e6, 1.6) == pytest.approx(4 * p1)
     q1 = limiting_loss_from_surface_field_w_m2(1e4, 100.0, 6e6, 1.6)
     assert limiting_loss_from_surface_field_w_m2(1e4, 400.0, 6e6, 1.6) == pytest.approx(2 * q1)
+
+
+def test_only_a_stationary_plate_loses_and_its_loss_follows_the_theory():
+    from demos import design
+
+    for name in ("millrace", "pedalbox"):
+        assert all(op.steel_loss_w == 0.0 for op in design(name).prediction.curve)
+    d = design("hilltop")  # one magnet disc over a steel-backed stator
+    curve = d.prediction.curve
+    assert all(op.steel_loss_w > 0 for op in curve)
+    # Eddy part ∝ ω² and hysteresis ∝ ω at a fixed flux swing: loss/ω rises linearly in ω.
+    per = [(op.rpm, op.steel_loss_w / op.rpm) for op in curve]
+    (r0, y0), (r1, y1), (r2, y2) = per[0], per[len(per) // 2], per[-1]
+    assert (y2 - y1) / (r2 - r1) == pytest.approx((y1 - y0) / (r1 - r0), rel=1e-6)
+    rated = d.prediction.rated
+    assert rated.efficiency == pytest.approx(rated.dc_power_w / rated.shaft_power_w)
+    assert "steel.stationary_loss" in {w.code for w in d.warnings}
+
+
+def test_advice_for_the_plate_is_steel_that_turns_or_none():
+    from demos import design
+
+    from layout.advice import suggest
+
+    offered = [s for s in suggest(design("hilltop")) if s.code == "steel.stationary_loss"]
+    two = next(s for s in offered if s.key == "rotor.topology")
+    assert two.to == "two_discs" and two.value == 0.0 and two.clears
+    assert "without rotor.stator_plate_thickness_mm" in two.words
