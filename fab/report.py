@@ -155,6 +155,7 @@ def electrical_json(design: Design) -> dict:
     rated = pr.rated
     return {
         "turns_per_coil": pr.turns_per_coil,
+        "as_built": list(design.spec.coils_given),  # the [coils] keys the design gave
         "wire": pr.wire.name,
         "wire_diameter_mm": _r(pr.wire.diameter_mm),
         "strands_in_hand": pr.wire.strands,
@@ -373,6 +374,15 @@ def _winding_text(design: Design) -> str:
         ["wire per phase", f"{pr.wire_length_per_phase_m:.0f} m"],
         ["geometric pitch factor", f"{design.geometric_pitch_factor:.3f}"],
     ]
+    given = design.spec.coils_given
+    if given:
+        rows.insert(
+            0,
+            [
+                "coils as built",
+                ", ".join(f"coils.{k}" for k in given) + " from the design file; the rest sized",
+            ],
+        )
     return table(["winding", "value"], rows)
 
 

@@ -167,11 +167,28 @@ def _omega(rpm):
     return np.asarray(rpm, dtype=float) * 2 * math.pi / 60
 
 
+# Round wire wound by hand fills at most about 0.75 of a window (the fill factor's bound;
+# perfect square packing gives π/4): coils given as built must fit within it.
+MAX_COPPER_FILL = 0.75
+
+
+def as_built_wire(spec: Spec) -> Wire | None:
+    """The wire of [coils] as the file gives it; None where the model chooses it."""
+    c = spec.coils
+    if c.wire_diameter_mm is None:
+        return None
+    return Wire(f"{c.wire_diameter_mm:g} mm", c.wire_diameter_mm, c.strands_in_hand)
+
+
 def _copper(spec: Spec, geo: Geometry, layout: Layout, turns: int):
     """Wire, R at 20 °C and L of a coil and a phase, for `turns` per coil; None if no wire fits."""
     st = spec.stator
     area = st.fill_factor * geo.coil.window_mm2 / turns
-    wire = choose_wire(area, st.wire_standard, st.max_wire_diameter_mm)
+    wire = as_built_wire(spec)
+    if wire is None:
+        wire = choose_wire(area, st.wire_standard, st.max_wire_diameter_mm)
+    elif turns * wire.copper_mm2 > MAX_COPPER_FILL * geo.coil.window_mm2:
+        return None
     if wire is None:
         return None
     r_coil = coil_resistance_ohm(turns, geo.coil.mean_turn_length_mm, wire)
@@ -292,9 +309,10 @@ def predict(
     ta = spec.target
     vf = ta.diode_drop_v
     per_turn_peak = _rectified_peak_per_turn(emf)
+    given = spec.coils.turns_per_coil  # coils as built: predicted, not sized
     if ta.kind == "battery":
         v_cut = ta.battery_v + 2 * vf
-        turns = max(1, round(v_cut / (per_turn_peak * _omega(ta.cut_in_rpm))))
+        turns = given or max(1, round(v_cut / (per_turn_peak * _omega(ta.cut_in_rpm))))
         load = Load("battery", ta.battery_resistance_ohm, ta.battery_v)
         return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only)
     # A loaded target must hold with the coils warm: size at ambient, then again at the
@@ -303,14 +321,14 @@ def predict(
     for _ in range(4):
         if ta.kind == "dc":
             v_cut = ta.voltage_v + 2 * vf
-            turns = _turns_for_dc(spec, geo, layout, emf, per_turn_peak, size_c)
+            turns = given or _turns_for_dc(spec, geo, layout, emf, per_turn_peak, size_c)
             load = Load("resistor", ta.voltage_v / ta.rated_current_a)
         else:
             v_cut = ta.voltage_v * math.sqrt(2)
-            turns = _turns_for_ac(spec, geo, layout, emf, size_c)
+            turns = given or _turns_for_ac(spec, geo, layout, emf, size_c)
             load = None
         pred = _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only)
-        if pred.rated.dc_voltage_v >= ta.voltage_v * (1 - 1e-9):
+        if given or pred.rated.dc_voltage_v >= ta.voltage_v * (1 - 1e-9):
             break
         size_c = pred.rated.coil_temperature_c
     return pred
@@ -323,6 +341,15 @@ def _evaluate(
     ta = spec.target
     star = spec.connection.kind == "star"
     cu = _copper(spec, geo, layout, turns)
+    if cu is None and as_built_wire(spec) is not None:
+        wire = as_built_wire(spec)
+        raise spec.fail(
+            "coils.wire_diameter_mm",
+            spec.coils.wire_diameter_mm,
+            f"{turns} turns of {wire.strands} × {wire.diameter_mm:g} mm fill "
+            f"{turns * wire.copper_mm2 / geo.coil.window_mm2:.2f} of the coil window "
+            f"({geo.coil.window_mm2:.0f} mm²); at most {MAX_COPPER_FILL:g} fits",
+        )
     if cu is None:
         raise spec.fail(
             "stator.wire_standard",

@@ -190,12 +190,25 @@ def collect_warnings(
             "symmetry: the magnetic pull on the rotor is not balanced round the shaft. Small in a "
             "coreless stator; use a stiff shaft and good bearings.",
         )
+    as_built = "turns_per_coil" in spec.coils_given
     if ta.kind == "battery" and abs(pred.cut_in_rpm / ta.cut_in_rpm - 1) > 0.1:
         add(
             "turns.cut_in",
             "warning",
             f"With {pred.turns_per_coil} whole turns the cut-in is {pred.cut_in_rpm:.0f} rpm, "
-            f"not {ta.cut_in_rpm:g}: turns are too few to set it finely.",
+            + (
+                f"not the {ta.cut_in_rpm:g} asked: the coils as built (coils.turns_per_coil) set it."
+                if as_built
+                else f"not {ta.cut_in_rpm:g}: turns are too few to set it finely."
+            ),
+        )
+    if as_built and ta.kind != "battery" and rated.dc_voltage_v < ta.voltage_v * 0.97:
+        add(
+            "coils.as_built_short",
+            "warning",
+            f"The coils as built ({pred.turns_per_coil} turns) give {rated.dc_voltage_v:.1f} V at "
+            f"{rated.rpm:g} rpm into the target's load, not the {ta.voltage_v:g} V asked: expect "
+            f"{rated.dc_power_w:.0f} W there, or raise the speed.",
         )
     if rated.efficiency < 0.7 and rated.dc_power_w > 0:
         # Into a battery the winding's EMF is about cut-in/rpm of what it would be at the

@@ -170,6 +170,16 @@ class FabSpec:
 
 
 @dataclass(frozen=True)
+class CoilsSpec:
+    """Coils already wound, or a design's published coils: the model takes them as given
+    instead of sizing them for the target. Every key is optional."""
+
+    turns_per_coil: int | None = rule(None, ge=1, le=100000)
+    wire_diameter_mm: float | None = rule(None, ge=0.05, le=5, why="bare copper, in mm")
+    strands_in_hand: int = rule(1, ge=1, le=100)
+
+
+@dataclass(frozen=True)
 class Spec:
     name: str
     purpose: str
@@ -180,6 +190,8 @@ class Spec:
     target: TargetSpec
     source: str  # the file name shown in messages
     fab: FabSpec = field(default_factory=FabSpec)
+    coils: CoilsSpec = field(default_factory=CoilsSpec)
+    coils_given: tuple[str, ...] = ()  # the [coils] keys the file gave, in its order
 
     def fail(self, key: str, value: object, allowed: str) -> DesignError:
         """An error about this design's `key` (dotted), for checks made after loading."""
@@ -193,8 +205,9 @@ _SECTIONS: dict[str, type] = {
     "connection": ConnectionSpec,
     "target": TargetSpec,
     "fab": FabSpec,
+    "coils": CoilsSpec,
 }
-_OPTIONAL_SECTIONS = ("fab",)  # every key has a default
+_OPTIONAL_SECTIONS = ("fab", "coils")  # every key has a default
 _TOP_KEYS = ("name", "purpose")
 
 
@@ -292,7 +305,8 @@ def parse_spec(data: dict, source: str) -> Spec:
                 continue
             raise DesignError(source, f"[{section}]", None, "required table")
         sections[section] = _read_section(source, section, data[section], cls)
-    spec = Spec(name=data["name"], purpose=data["purpose"], source=source, **sections)
+    given = tuple(data["coils"]) if isinstance(data.get("coils"), dict) else ()
+    spec = Spec(name=data["name"], purpose=data["purpose"], source=source, coils_given=given, **sections)
     _check_consistency(spec)
     return spec
 
@@ -333,6 +347,12 @@ def _check_consistency(spec: Spec) -> None:
         spec.name.replace("-", "").replace("_", "").isalnum()
     ):
         raise spec.fail("name", spec.name, "use letters, digits, - and _ only (it names files)")
+    if "strands_in_hand" in spec.coils_given and spec.coils.wire_diameter_mm is None:
+        raise spec.fail(
+            "coils.strands_in_hand",
+            spec.coils.strands_in_hand,
+            "needs coils.wire_diameter_mm (each strand's)",
+        )
     if st.phases == 2:
         raise spec.fail("stator.phases", 2, "must be 1 (single phase) or 3 (three phase)")
     if (st.phases == 1) != (co.kind == "single_phase"):

@@ -487,3 +487,50 @@ def test_delta_circulating_warning_gives_the_star_figures_the_model_computes():
     assert star.prediction.rated.efficiency > d.prediction.rated.efficiency + 0.1
     # A floating star carries no circulating current at all (limiting case).
     assert all(op.loop_loss_w == 0.0 for op in star.prediction.curve)
+
+
+# --- coils as built -------------------------------------------------------------------------
+
+
+def test_coils_as_built_reproduce_the_sized_coils():
+    # Given exactly the turns and wire the model chose, the prediction is the same machine.
+    base = design("millrace")
+    pr = base.prediction
+    d = design(
+        "millrace",
+        ("coils.turns_per_coil", pr.turns_per_coil),
+        ("coils.wire_diameter_mm", pr.wire.diameter_mm),
+        ("coils.strands_in_hand", pr.wire.strands),
+    )
+    assert d.prediction.cut_in_rpm == pytest.approx(pr.cut_in_rpm, rel=1e-9)
+    assert d.prediction.rated.dc_power_w == pytest.approx(pr.rated.dc_power_w, rel=1e-6)
+
+
+def test_coils_as_built_cut_in_and_resistance_follow_the_turns():
+    # The open-circuit EMF is proportional to the turns, so the cut-in falls as 1/N; the
+    # resistance is ρ N l / A (IEC 60028: 1/58 Ω·mm²/m at 20 °C) for the wire given.
+    one = design("millrace", ("coils.turns_per_coil", 60), ("coils.wire_diameter_mm", 1.0))
+    two = design("millrace", ("coils.turns_per_coil", 120), ("coils.wire_diameter_mm", 0.71))
+    assert two.prediction.cut_in_rpm == pytest.approx(one.prediction.cut_in_rpm / 2, rel=1e-9)
+    mlt_m = one.geometry.coil.mean_turn_length_mm / 1000
+    assert one.prediction.coil_resistance_ohm == pytest.approx(
+        60 * mlt_m / 58 / (math.pi * 1.0**2 / 4), rel=1e-9
+    )
+    assert "turns.cut_in" in {w.code for w in one.warnings}  # 60 turns cannot cut in at 210 rpm
+
+
+def test_coils_as_built_that_cannot_fit_or_lack_a_wire_are_refused():
+    with pytest.raises(DesignError, match=r"coils\.wire_diameter_mm = 1\.6: 200 turns"):
+        design("millrace", ("coils.turns_per_coil", 200), ("coils.wire_diameter_mm", 1.6))
+    text = (DESIGNS / "millrace.toml").read_text(encoding="utf-8") + "\n[coils]\nstrands_in_hand = 2\n"
+    with pytest.raises(DesignError, match=r"coils\.strands_in_hand = 2: needs coils\.wire_diameter_mm"):
+        parse_spec(tomllib.loads(text), "m.toml")
+
+
+def test_plan_says_which_coil_keys_were_given():
+    text = (DESIGNS / "millrace.toml").read_text(encoding="utf-8") + "\n[coils]\nturns_per_coil = 80\n"
+    d = compute_design(parse_spec(tomllib.loads(text), "m.toml"))
+    doc = plan_json(d)
+    assert doc["electrical"]["as_built"] == ["turns_per_coil"]
+    assert doc["electrical"]["turns_per_coil"] == 80
+    assert plan_json(design("millrace"))["electrical"]["as_built"] == []

@@ -6,10 +6,10 @@ import dataclasses
 import re
 
 import pytest
-from demos import DEMOS, design
+from demos import DEMOS, design, variant
 
 from layout.advice import CANDIDATES
-from layout.design import Design
+from layout.design import Design, compute_design
 from layout.safety import collect_warnings
 
 SEVERITIES = {"danger", "warning", "info"}
@@ -30,13 +30,15 @@ ALL_CODES = {
     "turns.cut_in",
     "output.low_efficiency",
     "delta.circulating",
+    "steel.stationary_loss",
+    "coils.as_built_short",
     "rotor.spinning",
 }
 ACTION_VERBS = (
     "use", "raise", "lower", "fit", "make", "handle", "keep", "guard", "limit", "choose",
     "bring", "enclose", "never", "follow",
 )  # fmt: skip
-SPEC_KEY = re.compile(r"\b(stator|magnets|rotor|connection|target)\.[a-z_]+")
+SPEC_KEY = re.compile(r"\b(stator|magnets|rotor|connection|target|coils|fab)\.[a-z_]+")
 
 
 def codes(d: Design) -> dict[str, str]:
@@ -75,9 +77,18 @@ def doctored_warnings():
     return collect_warnings(d.spec, lay, pr, f)
 
 
+def as_built_short():
+    """pedalbox with coils as built of two thirds the turns it needs: short of its target."""
+    turns = design("pedalbox").prediction.turns_per_coil * 2 // 3
+    spec = dataclasses.replace(
+        variant("pedalbox", ("coils.turns_per_coil", turns)), coils_given=("turns_per_coil",)
+    )
+    return compute_design(spec)
+
+
 def every_warning():
     out = [w for args in VARIANTS for w in design(*args).warnings]
-    return out + doctored_warnings()
+    return out + doctored_warnings() + list(as_built_short().warnings)
 
 
 # --- always there ------------------------------------------------------------------------
@@ -195,3 +206,10 @@ def test_ac_line_warnings_have_no_bridge_words():
         assert "voltage.above_elv" in codes(d)
         for w in d.warnings:
             assert not re.search(r"rectif|bridge|diode", w.message, re.IGNORECASE), w.code
+
+
+def test_coils_as_built_short_of_the_target_say_what_they_give():
+    d = as_built_short()
+    w = next(w for w in d.warnings if w.code == "coils.as_built_short")
+    assert f"{d.prediction.rated.dc_voltage_v:.1f} V" in w.message
+    assert d.prediction.rated.dc_voltage_v < d.spec.target.voltage_v
