@@ -14,8 +14,7 @@ from pathlib import Path
 
 from fab import outlines
 from layout.design import Design
-from layout.materials import DISC_MATERIALS
-from layout.rotor import disc_count, is_steel_disc, pocket_clearance_mm
+from layout.rotor import disc_material, disc_thickness_mm, is_plain_disc, pocket_clearance_mm, rotor_discs
 
 ANGULAR_TOLERANCE_RAD = 0.2  # STL facets: with the linear tolerance, fine enough to print
 CLEARANCE_TOL_MM = 1e-3  # the assembly's running clearance must equal the design's to this
@@ -236,23 +235,25 @@ def document_items(design: Design) -> list[Item]:
 
 
 def rotor_items(design: Design) -> list[Item]:
-    """Each rotor disc as a solid, for the printer and flat; a placing template for steel discs."""
+    """Each rotor disc as a solid, for the printer and flat; a placing template for each steel
+    disc that carries magnets (a plain steel disc has none to place)."""
     from fab import solids
 
     spec = design.spec
-    ro = spec.rotor
-    mat = DISC_MATERIALS[ro.disc_material]
-    steel = is_steel_disc(spec)
     lay = outlines.disc_layout(design)
     jack = lay.jacking
     tapped = f"tap the {lay.balance_screw} balance holes"
     items: list[Item] = []
-    for disc in range(1, disc_count(spec) + 1):
+    for disc in rotor_discs(spec):
         name, role = f"rotor_disc_{disc}", outlines.rotor_disc_flat(design, disc).title
+        mat = disc_material(spec, disc)
+        steel, plain = mat.magnetic, is_plain_disc(spec, disc)
+        up = "face towards the stator up" if plain else "magnet side up"
         if steel:
             make = "cut"
+            thick = disc_thickness_mm(spec, disc)
             how = (
-                f"cut from {ro.disc_thickness_mm:g} mm {mat.name} plate (laser or waterjet) along CUT; "
+                f"cut from {thick:g} mm {mat.name} plate (laser or waterjet) along CUT; "
                 f"etch or scribe ENGRAVE; {tapped}"
             )
         elif mat.printed:
@@ -264,9 +265,7 @@ def rotor_items(design: Design) -> list[Item]:
         if jack is not None and jack.on == "disc 2" and disc == 2:
             how += f"; tap the {jack.screw} jacking screw holes"
         disc_solid = _step(lambda b, d=disc: b.disc(d))
-        items.append(
-            Item(f"{name}.step", f"{role}, solid as made (magnet side up)", mat.name, make, how, disc_solid)
-        )
+        items.append(Item(f"{name}.step", f"{role}, solid as made ({up})", mat.name, make, how, disc_solid))
         if mat.printed:
             items.append(
                 Item(
@@ -289,7 +288,7 @@ def rotor_items(design: Design) -> list[Item]:
                 _dxf(lambda d_, k, d=disc: outlines.rotor_disc_flat(d_, d, k), mat.name),
             )
         )
-        if steel:
+        if steel and not plain:
             how = (
                 "print, or cut from plywood or acrylic; pin it to the disc with two dowels, set each magnet "
                 "in its place with the marked face up, glue, lift the template off when cured"
@@ -489,7 +488,7 @@ def _write_assembly(b: Builder, path: Path) -> dict:
     from fab.solids import assembly, check_assembly, standing_envelope, write_assembly_step
 
     design = b.design
-    parts = assembly(design, {d: b.disc(d) for d in range(1, disc_count(design.spec) + 1)})
+    parts = assembly(design, {d: b.disc(d) for d in rotor_discs(design.spec)})
     check = check_assembly(parts, standing_envelope(design))
     want = design.spec.rotor.running_clearance_mm
     if check.collisions:

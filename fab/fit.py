@@ -37,7 +37,7 @@ from fab.outlines import (
 from layout.advice import with_suggestions
 from layout.design import Design, compute_design
 from layout.geometry import resolve_geometry
-from layout.rotor import disc_count, is_steel_disc
+from layout.rotor import is_plain_disc, is_steel_disc, rotor_discs
 from layout.spec import DesignError, Spec, load_spec
 
 _TOL = 0.05  # arcs are checked as chords (ARC_STEP_DEG): this covers their sag
@@ -519,9 +519,9 @@ def _part_flats(spec: Spec) -> dict[str, Callable[[Design], tuple[Flat, tuple[Fe
     """Every flat part the package holds, by part name, in the order they are checked: a
     builder of the part and the further places its check keeps clear."""
     out = {}
-    for disc in range(1, disc_count(spec) + 1):
+    for disc in rotor_discs(spec):
         out[f"rotor_disc_{disc}"] = lambda d, k=disc: _rotor_disc(d, k)
-        if is_steel_disc(spec):
+        if is_steel_disc(spec) and not is_plain_disc(spec, disc):
             out[f"magnet_template_{disc}"] = lambda d, k=disc: (magnet_template_flat(d, k), ())
     out["stator"] = lambda d: (stator_flat(d), ())
     if spec.rotor.topology == "one_disc_steel_stator":

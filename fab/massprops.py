@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
-from layout.balance import DiscBody
+from layout.balance import DiscBody, disc_plane_z_mm
 from layout.design import Design
-from layout.materials import DISC_MATERIALS
+from layout.rotor import disc_material, rotor_discs
 
 
 def disc_bodies(design: Design) -> tuple[DiscBody, ...]:
@@ -13,12 +13,12 @@ def disc_bodies(design: Design) -> tuple[DiscBody, ...]:
     OCCT integrates the solid (BRepGProp volume properties); the mass is that volume times
     the disc material's density (common handbook values, layout.materials). Disc 2 is
     made magnet side up, mirrored against the machine's angles, so its centre of mass is
-    mirrored back (y → −y) into machine coordinates.
+    mirrored back (y → −y) into machine coordinates. A plain steel disc counts as disc 2.
     """
     from fab.solids import rotor_disc
 
     props = {}
-    for disc in sorted({m.disc for m in design.geometry.magnets}):
+    for disc in rotor_discs(design.spec):
         solid = rotor_disc(design, disc)
         c = solid.Center()  # centre of mass of a solid in cadquery
         props[disc] = (solid.Volume(), (c.x, c.y))
@@ -29,10 +29,10 @@ def bodies_from_props(
     design: Design, props: dict[int, tuple[float, tuple[float, float]]]
 ) -> tuple[DiscBody, ...]:
     """DiscBody per disc from (volume mm³, centre of mass (x, y) mm on the part as made)."""
-    density = DISC_MATERIALS[design.spec.rotor.disc_material].density_g_cm3
-    zs = {m.disc: m.center_mm[2] for m in design.geometry.magnets}
     out = []
-    for disc in sorted(zs):
+    for disc in rotor_discs(design.spec):
         volume_mm3, (x, y) = props[disc]
-        out.append(DiscBody(disc, volume_mm3 * density * 1e-6, (x, y if disc == 1 else -y), zs[disc]))
+        density = disc_material(design.spec, disc).density_g_cm3
+        z = disc_plane_z_mm(design, disc)
+        out.append(DiscBody(disc, volume_mm3 * density * 1e-6, (x, y if disc == 1 else -y), z))
     return tuple(out)

@@ -37,6 +37,7 @@ from fab.catalogue import Builder, Item, catalogue, safety_text, write_step, wri
 from fab.fit import check_parts
 from layout.advice import advised_codes, with_suggestions
 from layout.design import Design, compute_design
+from layout.rotor import rotor_discs
 from layout.spec import DesignError, load_spec
 
 MANIFEST = "manifest.json"
@@ -303,7 +304,7 @@ def _disc_bodies_from(design: Design, infos: dict):
     from fab.massprops import bodies_from_props
 
     props = {}
-    for disc in sorted({m.disc for m in design.geometry.magnets}):
+    for disc in rotor_discs(design.spec):
         info = infos[f"rotor_disc_{disc}.step"]
         props[disc] = (info["volume_mm3"], tuple(info["center_of_mass_mm"][:2]))
     return bodies_from_props(design, props)

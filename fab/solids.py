@@ -37,8 +37,7 @@ from fab.outlines import (
     stator_plate_flat,
 )
 from layout.design import Design
-from layout.materials import DISC_MATERIALS
-from layout.rotor import disc_count, disc_place
+from layout.rotor import disc_material, disc_place, rotor_discs
 from layout.spec import DesignError
 
 OVERCUT_MM = 0.5  # cutting tools stand this far past a face, so no face is shared with the part
@@ -148,8 +147,9 @@ def part_solid(design: Design, flat: Flat, engrave: bool = True):
 
 
 def rotor_disc(design: Design, disc: int):
-    """Rotor disc `disc` as made: lying on its back, magnet side up; printed ones engraved."""
-    printed = DISC_MATERIALS[design.spec.rotor.disc_material].printed
+    """Rotor disc `disc` as made: lying on its back, magnet side up (a plain steel disc with its
+    face towards the stator up); printed ones engraved."""
+    printed = disc_material(design.spec, disc).printed
     return part_solid(design, rotor_disc_flat(design, disc), engrave=printed)
 
 
@@ -262,7 +262,8 @@ PRINTED = (0.3, 0.6, 0.4)
 
 
 def assembly(design: Design, discs: dict | None = None) -> list[Placed]:
-    """Discs, magnets, stator, coils (and the steel stator plate) where they run.
+    """Discs, magnets, stator, coils (and the steel stator plate) where they run; a plain steel
+    disc above the stator, the running clearance from it as the magnet disc is below.
 
     `discs` may hold rotor disc solids already built ({disc: solid as made}). Magnets and
     coils are one solid each, placed many times.
@@ -270,17 +271,17 @@ def assembly(design: Design, discs: dict | None = None) -> list[Placed]:
     cq = _cq()
     spec, geo = design.spec, design.geometry
     out = []
-    disc_colour = STEEL if spec.rotor.disc_material == "steel" else PRINTED
     magnet = magnet_solid(design)
     origin, z_axis = cq.Vector(0, 0, 0), cq.Vector(0, 0, 1)
-    for disc in range(1, disc_count(spec) + 1):
+    for disc in rotor_discs(spec):
         place = disc_place(spec, geo, disc)
         solid = (discs or {}).get(disc) or rotor_disc(design, disc)
         if disc == 2:  # turned over about x: magnet side down
             loc = cq.Location(cq.Vector(0, 0, place.back_z_mm), cq.Vector(1, 0, 0), 180.0)
         else:
             loc = cq.Location(cq.Vector(0, 0, place.back_z_mm))
-        out.append(Placed(f"rotor_disc_{disc}", solid, loc, disc_colour))
+        colour = STEEL if disc_material(spec, disc).magnetic else PRINTED
+        out.append(Placed(f"rotor_disc_{disc}", solid, loc, colour))
         mags = [m for m in geo.magnets if m.disc == disc]
         for j, (m, loc) in enumerate(zip(mags, magnet_locations(design, disc), strict=True), start=1):
             out.append(Placed(f"magnet_{disc}_{j}", magnet, loc, NORTH if m.polarization_t > 0 else SOUTH))

@@ -16,7 +16,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from layout.rotor import balance_positions, part_angle_deg, pocket_clearance_mm, pocket_marks
+from layout.rotor import (
+    balance_positions,
+    disc_place,
+    is_plain_disc,
+    part_angle_deg,
+    pocket_clearance_mm,
+    pocket_marks,
+    rotor_discs,
+)
 
 # Balance grades of ISO 21940-11 (mm/s).
 GRADES = {"G0.4": 0.4, "G1": 1.0, "G2.5": 2.5, "G6.3": 6.3, "G16": 16.0, "G40": 40.0}
@@ -339,13 +347,28 @@ CAUTIONS = (
 )
 
 
+def disc_plane_z_mm(design, disc: int) -> float:
+    """Where along the shaft a disc's mass and its correction count (mm): the magnets' centre
+    plane of a magnet disc, the mid-plane of a plain steel disc."""
+    spec, geo = design.spec, design.geometry
+    if is_plain_disc(spec, disc):
+        place = disc_place(spec, geo, disc)
+        return (place.front_z_mm + place.back_z_mm) / 2
+    return next(m.center_mm[2] for m in geo.magnets if m.disc == disc)
+
+
 def nominal_disc_bodies(design) -> tuple[DiscBody, ...]:
     """Bare discs as perfect annuli (no solids built): centred, mass from the model."""
-    out = []
-    for disc in sorted({m.disc for m in design.geometry.magnets}):
-        z = next(m.center_mm[2] for m in design.geometry.magnets if m.disc == disc)
-        out.append(DiscBody(disc, design.forces.disc_mass_kg, (0.0, 0.0), z))
-    return tuple(out)
+    f = design.forces
+    return tuple(
+        DiscBody(
+            disc,
+            f.steel_disc_mass_kg if is_plain_disc(design.spec, disc) else f.disc_mass_kg,
+            (0.0, 0.0),
+            disc_plane_z_mm(design, disc),
+        )
+        for disc in rotor_discs(design.spec)
+    )
 
 
 def _correction_ring(design) -> tuple[float, tuple[float, ...]]:
@@ -383,18 +406,19 @@ def balance_rotor(
     per_disc = mg.count
     discs = [b.disc for b in bodies]
     mags = {d: [m for m in design.geometry.magnets if m.disc == d] for d in discs}
+    carrying = [d for d in discs if mags[d]]  # a plain steel disc has no magnets to place
     marks = {d: pocket_marks(design.geometry, d) for d in discs}
     ang = {d: np.radians([m.rotation_deg for m in mags[d]]) for d in discs}
     if masses is not None:
         listed = np.array([m.mass_g for m in masses])
         ids = [m.id for m in masses]
-        listed_sets = {d: np.arange(k * per_disc, (k + 1) * per_disc) for k, d in enumerate(discs)}
-        if len(discs) == 2:
+        listed_sets = {d: np.arange(k * per_disc, (k + 1) * per_disc) for k, d in enumerate(carrying)}
+        if len(carrying) == 2:
             a, b = split_between_discs(listed, per_disc)
-            chosen = {discs[0]: a, discs[1]: b}
+            chosen = {carrying[0]: a, carrying[1]: b}
         else:
-            chosen = {discs[0]: np.arange(per_disc)}
-    magnets_g = len(discs) * per_disc * nominal_g if masses is None else sum(m.mass_g for m in masses)
+            chosen = {carrying[0]: np.arange(per_disc)}
+    magnets_g = len(carrying) * per_disc * nominal_g if masses is None else sum(m.mass_g for m in masses)
     rotor_mass = sum(b.mass_kg for b in bodies) + magnets_g / 1000
     u_per = permissible_unbalance_gmm(g, rotor_mass, rpm)
     if len(bodies) == 2:
@@ -405,16 +429,20 @@ def balance_rotor(
     bal_r, bal_angles = _correction_ring(design)
     out: list[DiscBalance] = []
     vectors = []
-    p95 = 0.0
+    p95, limit = 0.0, min(share)
     for k, body in enumerate(bodies):
         d = body.disc
         base = complex(*body.com_offset_mm) * body.mass_kg * 1000  # g·mm
-        spread = monte_carlo_unbalance(nominal_g, mg.mass_tolerance_pct, ang[d], r, base_gmm=base)
-        p95 = max(p95, float(np.percentile(spread, 95)))
-        if masses is None:
-            before = after = base + unbalance_vector(np.full(per_disc, nominal_g), ang[d], r)
+        n_d = len(mags[d])
+        if n_d:  # each magnet disc's spread against its own share of U_per
+            spread = monte_carlo_unbalance(nominal_g, mg.mass_tolerance_pct, ang[d], r, base_gmm=base)
+            mine = float(np.percentile(spread, 95))
+            if p95 == 0.0 or mine / share[k] > p95 / limit:
+                p95, limit = mine, share[k]
+        if masses is None or not n_d:
+            before = after = base + unbalance_vector(np.full(n_d, nominal_g), ang[d], r)
             assignment = tuple(PocketAssignment(mk.pocket, "any", mk.face_up, nominal_g) for mk in marks[d])
-            mass_kg = body.mass_kg + per_disc * nominal_g / 1000
+            mass_kg = body.mass_kg + n_d * nominal_g / 1000
         else:
             before = base + unbalance_vector(listed[listed_sets[d]], ang[d], r)
             pool = chosen[d]
@@ -437,14 +465,13 @@ def balance_rotor(
                 permissible_gmm=share[k],
                 assignment=assignment,
                 correction=corr,
-                clearance_floor_gmm=clearance_floor_gmm(nominal_g, pocket_clearance_mm(spec), per_disc),
+                clearance_floor_gmm=clearance_floor_gmm(nominal_g, pocket_clearance_mm(spec), n_d),
             )
         )
     static = abs(sum(vectors))
     couple = 0.0
     if len(bodies) == 2:
         couple = abs(vectors[0] - vectors[1]) * abs(bodies[0].z_mm - bodies[1].z_mm) / 2
-    limit = min(share)
     if masses is not None:
         advice = "Magnets placed from their weighed masses as listed below."
     elif p95 > limit:

@@ -10,6 +10,7 @@ import numpy as np
 from layout.field import Sources, bz
 from layout.geometry import Geometry
 from layout.materials import DISC_MATERIALS, MAGNET_GRADES, NDFEB_DENSITY_G_CM3
+from layout.rotor import PLAIN_DISC, disc_material, disc_thickness_mm
 from layout.spec import Spec, magnet_radial_extent_mm, magnet_tangential_extent_mm
 
 MU0 = 4e-7 * math.pi
@@ -17,6 +18,8 @@ G = 9.80665
 STEEL_B_LIMIT_T = 1.5  # mild steel stays well below saturation (common practice)
 JACKING_FORCE_N = 150.0  # above ~15 kgf the discs cannot be lowered together by hand safely (common practice)
 HOOP_SAFETY_FACTOR = 3.0  # against yield or tensile strength for a spinning disc (common practice)
+# How the plates' flux density and its warning name the plain disc: with the key that sets it.
+STEEL_DISC_NAME = "plain disc (rotor.steel_disc_thickness_mm)"
 
 
 @dataclass(frozen=True)
@@ -27,12 +30,16 @@ class Forces:
     steel_needed_mm: float | None  # plate thickness for STEEL_B_LIMIT_T
     steel_plate: str | None  # which plate that is
     disc_outer_radius_mm: float
-    disc_mass_kg: float  # one disc without magnets
+    disc_mass_kg: float  # one magnet disc without magnets
     magnet_mass_g: float  # one magnet
     hoop_stress_mpa: float  # at the bore, at max_rpm, disc plus magnet load
     hoop_safety_factor: float
     magnet_pull_n: float  # one magnet pulled onto steel at contact
     airgap_peak_bz_t: float
+    # The plain steel disc of one_disc_steel_disc (no magnets on it); None for the others.
+    steel_disc_mass_kg: float | None = None
+    steel_disc_hoop_stress_mpa: float | None = None  # at the bore, at max_rpm, the disc alone
+    steel_disc_hoop_safety_factor: float | None = None
 
 
 def disc_outer_radius_mm(spec: Spec) -> float:
@@ -95,14 +102,17 @@ def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t
     plates: the flux of one pole, from Bz at the plate face, splits both ways through the
     plate's section (common practice), against `STEEL_B_LIMIT_T`. Hoop stress of the
     spinning disc at max_rpm: Timoshenko & Goodier, Theory of Elasticity, with the magnets as
-    a rim load. Coordinates in mm; `sources` as built by `layout.field`.
+    a rim load; a plain steel disc (`one_disc_steel_disc`) carries no rim load. Coordinates in
+    mm; `sources` as built by `layout.field`.
     """
     ro, mg = spec.rotor, spec.magnets
+    plain = ro.topology == "one_disc_steel_disc"
     # Maxwell stress on a plane where the tangential field vanishes gives the whole
-    # attraction: the mid-plane of two equal discs, or the steel plate's face.
+    # attraction: the mid-plane of two equal discs, or the face of the steel plate or of the
+    # plain steel disc across the stator.
     if ro.topology == "two_discs":
         plane = 0.0
-    elif ro.topology == "one_disc_steel_stator":
+    elif ro.topology == "one_disc_steel_stator" or plain:
         plane = geo.iron_planes_z_mm[-1] - 1e-3
     else:
         plane = None
@@ -118,6 +128,8 @@ def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t
         plates.append(("rotor disc", back, ro.disc_thickness_mm))
     if ro.topology == "one_disc_steel_stator":
         plates.append(("stator plate", geo.iron_planes_z_mm[-1] - 1e-3, ro.stator_plate_thickness_mm))
+    if plain:
+        plates.append((STEEL_DISC_NAME, geo.iron_planes_z_mm[-1] - 1e-3, disc_thickness_mm(spec, PLAIN_DISC)))
     steel_b = steel_need = None
     steel_name = None
     width = magnet_radial_extent_mm(mg)
@@ -133,14 +145,28 @@ def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t
     r_out = disc_outer_radius_mm(spec)
     r_in = ro.bore_diameter_mm / 2
     omega = spec.target.max_rpm * 2 * math.pi / 60
-    disc_vol_m3 = math.pi * (r_out**2 - r_in**2) * ro.disc_thickness_mm * 1e-9
-    sigma = hoop_stress_mpa(mat.density_g_cm3 * 1000, mat.poisson, omega, r_out * 1e-3, r_in * 1e-3)
+
+    def bare(m, thick_mm):
+        """(mass kg, hoop stress MPa at the bore) of a plain annulus of this disc's size."""
+        mass = math.pi * (r_out**2 - r_in**2) * thick_mm * 1e-9 * m.density_g_cm3 * 1000
+        return mass, hoop_stress_mpa(m.density_g_cm3 * 1000, m.poisson, omega, r_out * 1e-3, r_in * 1e-3)
+
+    disc_mass, sigma = bare(mat, ro.disc_thickness_mm)
     m_mag = magnet_mass_g(spec)
     # Magnets as a rim load: their total outward pull carried as hoop force by the disc's
     # radial section (thin-ring approximation, conservative for a solid disc).
     ring_force = mg.count * m_mag * 1e-3 * omega**2 * mg.pitch_radius_mm * 1e-3 / (2 * math.pi)
     sigma += ring_force / (ro.disc_thickness_mm * (r_out - r_in) * 1e-6) / 1e6
     safety = mat.strength_mpa / sigma if sigma > 0 else math.inf
+    steel_disc = {}
+    if plain:
+        steel = disc_material(spec, PLAIN_DISC)
+        mass2, sigma2 = bare(steel, disc_thickness_mm(spec, PLAIN_DISC))
+        steel_disc = {
+            "steel_disc_mass_kg": mass2,
+            "steel_disc_hoop_stress_mpa": sigma2,
+            "steel_disc_hoop_safety_factor": steel.strength_mpa / sigma2 if sigma2 > 0 else math.inf,
+        }
     return Forces(
         axial_force_n=force,
         jacking_screws=force > JACKING_FORCE_N,
@@ -148,12 +174,13 @@ def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t
         steel_needed_mm=steel_need,
         steel_plate=steel_name,
         disc_outer_radius_mm=r_out,
-        disc_mass_kg=disc_vol_m3 * mat.density_g_cm3 * 1000,
+        disc_mass_kg=disc_mass,
         magnet_mass_g=m_mag,
         hoop_stress_mpa=sigma,
         hoop_safety_factor=safety,
         magnet_pull_n=magnet_pull_n(spec),
         airgap_peak_bz_t=airgap_peak_bz_t,
+        **steel_disc,
     )
 
 

@@ -3,8 +3,8 @@
 Millimetres throughout (the CAD convention): the same numbers feed the field model, the
 JSON `geometry` block and, later, the solids and drawings, so they can never disagree.
 
-Axes: z along the shaft. The stator's mid-plane is z = 0 for two discs; with one disc the
-magnet disc is below (z < 0) and the stator above it. Coil position k (from 1) sits at
+Axes: z along the shaft. The stator's mid-plane is z = 0; with one magnet disc that disc
+is below (z < 0), and a plain steel disc, where there is one, above. Coil position k (from 1) sits at
 mechanical angle 2π(k−1)/Q; magnet j (from 1) at 2π(j−1)/P, magnet 1 magnetised +z.
 """
 
@@ -186,9 +186,11 @@ def resolve_geometry(spec: Spec, coil_indices: tuple[int, ...]) -> Geometry:
     """Every magnet of every disc at rotor angle 0, the steel surfaces and coil 1's shape (mm).
 
     z = 0 is the stator's mid-plane. Discs sit the running clearance from the stator's
-    faces; a steel disc's surface behind its magnets, and for `one_disc_steel_stator` the
-    stationary plate's face behind the stator, become image planes (method of images for a
-    highly permeable half-space, magnetisation normal to the plate kept; e.g. Furlani 2001).
+    faces; a steel disc's surface behind its magnets, for `one_disc_steel_stator` the
+    stationary plate's face behind the stator, and for `one_disc_steel_disc` the face of the
+    plain steel disc the running clearance above it, become image planes (method of images
+    for a highly permeable half-space, magnetisation normal to the plate kept; e.g. Furlani
+    2001).
     The coils lie inside the resin cover on both faces. Magnet j of disc 1 is at 360(j−1)/P
     degrees, polarity alternating, magnetised +z for j = 1; the magnet of disc 2 facing it is
     magnetised the same way along z, so N faces S across the stator and the flux crosses it.
@@ -209,6 +211,8 @@ def resolve_geometry(spec: Spec, coil_indices: tuple[int, ...]) -> Geometry:
         iron = (-s / 2 - g - h,) if steel_disc else ()
         if ro.topology == "one_disc_steel_stator":
             iron = iron + (s / 2,)
+        elif ro.topology == "one_disc_steel_disc":
+            iron = iron + (s / 2 + g,)
     z0, z1 = stator[0] + st.resin_cover_mm, stator[1] - st.resin_cover_mm
     coil = coil_shape(spec, z0, z1)
     dim = (mg.length_mm, mg.width_mm, h) if mg.shape == "block" else (mg.diameter_mm, h)

@@ -2,9 +2,11 @@
 and where balance corrections go.
 
 Millimetres throughout. A disc is made (printed, cut, glued up) lying on its back with its
-magnet side up; that is the frame of its part files. Disc 1 (the lower, or only, disc) lies
-as it runs. Disc 2 (the upper disc) runs magnet side down: its part is the running disc
-turned over about the x axis, so a feature at machine angle θ sits at −θ on the part.
+magnet side up; that is the frame of its part files. Disc 1 (the lower, or only, magnet
+disc) lies as it runs. Disc 2 (the upper disc) runs magnet side down: its part is the running
+disc turned over about the x axis, so a feature at machine angle θ sits at −θ on the part.
+With `one_disc_steel_disc` disc 2 is a plain steel disc with no magnets; its "magnet side" is
+the face towards the stator, and it is made and turned over as a second magnet disc would be.
 """
 
 from __future__ import annotations
@@ -15,7 +17,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from layout.geometry import Geometry
-from layout.materials import DISC_MATERIALS, METRIC_THREADS
+from layout.materials import DISC_MATERIALS, METRIC_THREADS, DiscMaterial
 from layout.spec import MIN_POCKET_FLOOR_MM, Spec, magnet_radial_extent_mm, magnet_tangential_extent_mm
 
 PRINTED_POCKET_CLEARANCE_MM = 0.2  # a side, for FDM-printed pockets (common practice)
@@ -56,6 +58,39 @@ def disc_count(spec: Spec) -> int:
     return 2 if spec.rotor.topology == "two_discs" else 1
 
 
+PLAIN_DISC = 2  # the number of the plain steel disc of `one_disc_steel_disc`
+
+
+def rotor_discs(spec: Spec) -> tuple[int, ...]:
+    """Every disc that turns, by number: the magnet discs, then a plain steel disc."""
+    if spec.rotor.topology == "one_disc_steel_disc":
+        return (1, PLAIN_DISC)
+    return tuple(range(1, disc_count(spec) + 1))
+
+
+def is_plain_disc(spec: Spec, disc: int) -> bool:
+    """Disc `disc` carries no magnets: the steel disc facing the magnet disc across the stator."""
+    return spec.rotor.topology == "one_disc_steel_disc" and disc == PLAIN_DISC
+
+
+def disc_material(spec: Spec, disc: int) -> DiscMaterial:
+    """What disc `disc` is made of: rotor.disc_material, or for the plain disc
+    rotor.steel_disc_material (steel unless the design names another magnetic material)."""
+    ro = spec.rotor
+    if is_plain_disc(spec, disc):
+        return DISC_MATERIALS[ro.steel_disc_material or "steel"]
+    return DISC_MATERIALS[ro.disc_material]
+
+
+def disc_thickness_mm(spec: Spec, disc: int) -> float:
+    """Thickness of disc `disc`: rotor.disc_thickness_mm, or for the plain disc
+    rotor.steel_disc_thickness_mm where the design gives it."""
+    ro = spec.rotor
+    if is_plain_disc(spec, disc) and ro.steel_disc_thickness_mm is not None:
+        return ro.steel_disc_thickness_mm
+    return ro.disc_thickness_mm
+
+
 @dataclass(frozen=True)
 class DiscPlace:
     """Where a disc runs, machine coordinates (z along the shaft)."""
@@ -67,8 +102,12 @@ class DiscPlace:
 
 
 def disc_place(spec: Spec, geo: Geometry, disc: int) -> DiscPlace:
-    """The magnets' backs sit on the pocket floors (or on the steel face)."""
-    h, t = spec.magnets.thickness_mm, spec.rotor.disc_thickness_mm
+    """The magnets' backs sit on the pocket floors (or on the steel face); a plain disc's face
+    runs the running clearance above the stator."""
+    h, t = spec.magnets.thickness_mm, disc_thickness_mm(spec, disc)
+    if is_plain_disc(spec, disc):
+        front = geo.stator_z_mm[1] + spec.rotor.running_clearance_mm
+        return DiscPlace(disc, front, front + t, False)
     d = pocket_depth_mm(spec)
     zc = next(m.center_mm[2] for m in geo.magnets if m.disc == disc)
     if disc == 1:

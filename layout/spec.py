@@ -116,7 +116,9 @@ class MagnetSpec:
 
 @dataclass(frozen=True)
 class RotorSpec:
-    topology: str = rule(choices=("two_discs", "one_disc_steel_stator", "one_disc_coreless"))
+    topology: str = rule(
+        choices=("two_discs", "one_disc_steel_stator", "one_disc_steel_disc", "one_disc_coreless")
+    )
     disc_material: str = rule(choices=DISC_MATERIALS)
     disc_thickness_mm: float = rule(ge=0.5, le=100)
     running_clearance_mm: float = rule(
@@ -125,6 +127,9 @@ class RotorSpec:
     bore_diameter_mm: float = rule(25.0, ge=3, le=1000)
     disc_outer_diameter_mm: float | None = rule(None, ge=10, le=4000)
     stator_plate_thickness_mm: float | None = rule(None, ge=0.5, le=100)
+    # The plain disc of one_disc_steel_disc; by default as thick as rotor.disc_thickness_mm, steel.
+    steel_disc_thickness_mm: float | None = rule(None, ge=0.5, le=100)
+    steel_disc_material: str | None = rule(None, choices=DISC_MATERIALS)
     hub_bolt_circle_mm: float | None = rule(None, ge=5, le=2000)
     hub_bolts: int = rule(4, ge=3, le=16)
     hub_hole_diameter_mm: float = rule(9.0, ge=1, le=100)
@@ -415,6 +420,18 @@ def _check_consistency(spec: Spec) -> None:
             "rotor.stator_plate_thickness_mm",
             ro.stator_plate_thickness_mm,
             'only for rotor.topology = "one_disc_steel_stator"',
+        )
+    for key in ("steel_disc_thickness_mm", "steel_disc_material"):
+        if ro.topology != "one_disc_steel_disc" and getattr(ro, key) is not None:
+            raise spec.fail(
+                f"rotor.{key}", getattr(ro, key), 'only for rotor.topology = "one_disc_steel_disc"'
+            )
+    if ro.steel_disc_material is not None and not DISC_MATERIALS[ro.steel_disc_material].magnetic:
+        magnetic = ", ".join(m.name for m in DISC_MATERIALS.values() if m.magnetic)
+        raise spec.fail(
+            "rotor.steel_disc_material",
+            ro.steel_disc_material,
+            f"the plain disc closes the magnets' flux: use a magnetic material ({magnetic})",
         )
     if 2 * st.resin_cover_mm >= st.thickness_mm:
         raise spec.fail(

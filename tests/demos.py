@@ -11,6 +11,13 @@ from layout.spec import Spec, load_spec
 
 DESIGNS = Path(__file__).resolve().parents[1] / "designs"
 DEMOS = ("hilltop", "millrace", "pedalbox")
+# Hilltop with a stationary steel plate behind the stator in place of its plain steel disc:
+# the one-disc machine whose steel stands still (eddy and hysteresis loss, layout.steel).
+PLATE = (
+    ("rotor.topology", "one_disc_steel_stator"),
+    ("rotor.stator_plate_thickness_mm", 8.0),
+    ("rotor.steel_disc_thickness_mm", None),
+)
 
 
 @functools.cache

@@ -7,7 +7,7 @@ import math
 
 import numpy as np
 import pytest
-from demos import design
+from demos import PLATE, design
 
 from layout.balance import (
     DiscBody,
@@ -196,7 +196,7 @@ def test_weighed_magnets_are_placed_better_than_listed_and_all_used_once():
 
 
 def test_off_centre_disc_body_shows_as_unbalance_and_gets_a_correction():
-    d = design("hilltop")
+    d = design("hilltop", *PLATE)  # one disc
     (body,) = nominal_disc_bodies(d)
     heavy = DiscBody(body.disc, body.mass_kg, (2.0, 0.0), body.z_mm)  # 2 mm off centre
     rb = balance_rotor(d, (heavy,), None, grade="G2.5")
@@ -225,6 +225,77 @@ def test_disc_bodies_from_the_solids():
         assert disc.unbalance_after_gmm == pytest.approx(
             abs(complex(*body.com_offset_mm)) * body.mass_kg * 1000
         )
+
+
+# --- a magnet disc and a plain steel disc (hilltop) ------------------------------------------
+
+
+def test_the_plain_steel_disc_is_checked_with_no_magnets_to_place():
+    d = design("hilltop")  # 12 magnets on disc 1, a plain 8 mm steel disc 2
+    rb = balance_rotor(d, nominal_disc_bodies(d), None)
+    one, two = rb.discs
+    assert (one.disc, two.disc) == (1, 2)
+    assert len(one.assignment) == 12 and two.assignment == ()
+    assert two.clearance_floor_gmm == 0.0 and one.clearance_floor_gmm > 0.0
+    # By hand: steel annuli (7.85 g/cm³, common handbook value) 290 mm across (magnets' outer
+    # edge 135 mm plus the 10 mm rim) with a 40 mm bore, 10 mm and 8 mm thick, and 12 NdFeB
+    # blocks of 50 × 25 × 12 mm at 7.5 g/cm³ (from memory).
+    annulus_mm2 = math.pi * (145.0**2 - 20.0**2)
+    disc1, disc2 = annulus_mm2 * 10 * 7.85e-6, annulus_mm2 * 8 * 7.85e-6
+    magnets = 12 * 50 * 25 * 12 * 7.5e-6
+    assert one.mass_kg == pytest.approx(disc1 + magnets, rel=1e-9)
+    assert two.mass_kg == pytest.approx(disc2, rel=1e-9)
+    assert rb.rotor_mass_kg == pytest.approx(disc1 + disc2 + magnets, rel=1e-9)
+    # ISO 21940-11: U_per for the whole rotor at 600 rpm, split between the two correction
+    # planes in inverse proportion to their distance from the discs' centre of mass: disc 1's
+    # magnets' mid-plane 6 + 2.5 + 6 mm below the stator's mid-plane, disc 2's mid-plane
+    # 6 + 2.5 + 4 mm above it.
+    u_per = 1000 * 6.3 * rb.rotor_mass_kg / (600 * 2 * math.pi / 60)
+    zc = (disc1 * -14.5 + disc2 * 12.5) / (disc1 + disc2)
+    a, b = abs(-14.5 - zc), abs(12.5 - zc)
+    assert one.permissible_gmm == pytest.approx(u_per * b / (a + b), rel=1e-9)
+    assert two.permissible_gmm == pytest.approx(u_per * a / (a + b), rel=1e-9)
+    assert one.unbalance_after_gmm < 1e-6 and two.unbalance_after_gmm < 1e-6
+
+
+def test_weighed_magnets_all_go_on_the_magnet_disc():
+    d = design("hilltop")
+    rng = np.random.default_rng(3)
+    masses = [WeighedMagnet(f"H{i + 1}", 112.5 * (1 + rng.uniform(-0.01, 0.01))) for i in range(12)]
+    rb = balance_rotor(d, nominal_disc_bodies(d), masses)
+    one, two = rb.discs
+    assert sorted(a.magnet for a in one.assignment) == sorted(m.id for m in masses)
+    assert two.assignment == () and two.mass_kg == pytest.approx(d.forces.steel_disc_mass_kg)
+    assert one.unbalance_after_gmm <= one.unbalance_before_gmm
+
+
+def test_an_off_centre_plain_disc_is_corrected_on_its_own_face():
+    d = design("hilltop")
+    one, two = nominal_disc_bodies(d)
+    heavy = DiscBody(2, two.mass_kg, (0.0, 1.0), two.z_mm)  # 1 mm off towards +y (machine)
+    rb = balance_rotor(d, (one, heavy), None)
+    plain = rb.discs[1]
+    assert plain.unbalance_after_gmm == pytest.approx(two.mass_kg * 1000 * 1.0, rel=1e-9)
+    assert plain.correction.needed
+    # Opposite the heavy side is 270° on the machine; disc 2 is made turned over (mirrored),
+    # so on the part as made the correction is marked at 90°.
+    assert plain.correction.ideal_angle_deg == pytest.approx(90.0, abs=1e-9)
+    # The unbalance is the plain disc's: the magnet disc stays as it was.
+    assert rb.discs[0].unbalance_after_gmm < 1e-6
+
+
+def test_disc_bodies_of_a_magnet_disc_and_a_plain_disc_from_the_solids():
+    from fab.massprops import disc_bodies
+
+    d = design("hilltop")
+    bodies = disc_bodies(d)
+    assert [b.disc for b in bodies] == [1, 2]
+    # Holes only (no pockets in steel): a few per cent lighter than the plain annuli.
+    assert 0.95 * d.forces.disc_mass_kg < bodies[0].mass_kg < d.forces.disc_mass_kg
+    assert 0.95 * d.forces.steel_disc_mass_kg < bodies[1].mass_kg < d.forces.steel_disc_mass_kg
+    assert all(abs(complex(*b.com_offset_mm)) < 0.5 for b in bodies)
+    rb = balance_rotor(d, bodies, None)
+    assert len(rb.discs) == 2 and rb.couple_unbalance_gmm_mm > 0
 
 
 def _masses_csv(masses) -> str:

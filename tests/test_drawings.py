@@ -8,19 +8,17 @@ from collections import Counter
 import ezdxf
 import numpy as np
 import pytest
-from demos import design
+from demos import PLATE, design
 
 from fab import outlines as o
 from fab.drawings import LAYERS, flat_document, part_note, write_dxf
+from layout.rotor import rotor_discs
 
 PLA = (("rotor.disc_material", "pla"),)
 
 
 def flats(d, kerf: float = 0.0) -> list[o.Flat]:
-    out = [
-        o.rotor_disc_flat(d, disc, kerf)
-        for disc in (1, 2)[: 2 if d.spec.rotor.topology == "two_discs" else 1]
-    ]
+    out = [o.rotor_disc_flat(d, disc, kerf) for disc in rotor_discs(d.spec)]
     out += [o.magnet_template_flat(d, 1, kerf), o.stator_flat(d, kerf), o.jig_core_flat(d, kerf)]
     out += [o.jig_cheek_flat(d, kerf)] + o.mould_flats(d, kerf)
     if d.spec.rotor.topology == "one_disc_steel_stator":
@@ -51,7 +49,9 @@ def centre(e) -> np.ndarray:
     return pts.mean(axis=0)
 
 
-@pytest.mark.parametrize(("demo", "changes"), [("millrace", ()), ("millrace", PLA), ("hilltop", ())])
+@pytest.mark.parametrize(
+    ("demo", "changes"), [("millrace", ()), ("millrace", PLA), ("hilltop", ()), ("hilltop", PLATE)]
+)
 def test_every_drawing_is_clean_mm_and_closed(tmp_path, demo, changes):
     d = design(demo, *changes)
     for flat in flats(d):
@@ -93,6 +93,28 @@ def test_rotor_disc_counts_steel():
         assert len(magnets) == spec.magnets.count
         pads = [e for e in refs if circle_radius(e)]
         assert len(pads) == (3 if disc == 1 else 0)
+
+
+def test_plain_steel_disc_drawing(tmp_path):
+    d = design("hilltop")
+    spec = d.spec
+    doc = written(tmp_path, o.rotor_disc_flat(d, 2))
+    assert not doc.audit().has_errors
+    radii = Counter(round(circle_radius(e), 3) for e in polylines(doc, "CUT") if circle_radius(e))
+    # Outer edge 145 mm (the magnets' edge 135 mm plus the 10 mm rim), bore, hub bolts,
+    # dowels, a balance hole between every two magnet places of disc 1 (M5 tap drill 4.2 mm)
+    # and three M10 tapped holes (tap drill 8.5 mm) for the jacking screws.
+    assert radii[145.0] == 1 and radii[20.0] == 1
+    assert radii[spec.rotor.hub_hole_diameter_mm / 2] == spec.rotor.hub_bolts
+    assert radii[spec.rotor.dowel_diameter_mm / 2] == 2
+    assert radii[2.1] == spec.magnets.count
+    assert radii[4.25] == spec.rotor.jacking_screws
+    assert len(polylines(doc, "CUT")) == 1 + 1 + 4 + 2 + 12 + 3
+    # Nothing to pocket and no magnets to draw; the index triangle and the number 2 only.
+    assert polylines(doc, "POCKET") == [] and polylines(doc, "REFERENCE") == []
+    assert len(polylines(doc, "ENGRAVE")) == 2
+    notes = " ".join(e.dxf.text for e in doc.modelspace() if e.dxftype() == "TEXT")
+    assert "8 mm" in notes
 
 
 def ezdxf_doc(d, disc: int, kerf: float = 0.0):

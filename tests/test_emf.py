@@ -132,13 +132,17 @@ def test_turn_weight_integrates_to_the_mean_turn_area(name):
 
 
 def small_spec(base: str, changes: dict[str, dict[str, float]]) -> Spec:
-    """A demo's design file with some keys changed, validated like any design file."""
+    """A demo's design file with some keys changed (None leaves one out), validated like any
+    design file."""
     data = tomllib.loads((DESIGNS / f"{base}.toml").read_text(encoding="utf-8"))
     for section, keys in changes.items():
         data[section].update(keys)
+        data[section] = {k: v for k, v in data[section].items() if v is not None}
     return parse_spec(data, f"small-{base}.toml")
 
 
+HILLTOP_HALF_MAGNETS = {"length_mm": 25.0, "width_mm": 12.5, "thickness_mm": 6.0, "pitch_radius_mm": 55.0}
+HILLTOP_HALF_ROTOR = {"running_clearance_mm": 1.25, "bore_diameter_mm": 20.0, "disc_thickness_mm": 5.0}
 SMALL = {
     # Pedalbox at half size: discs, two steel rotor discs, mirror symmetric, single phase.
     "pedalbox-half": (
@@ -150,16 +154,27 @@ SMALL = {
         },
         1.25,
     ),
-    # Hilltop at half size: blocks, one disc over a steel stator plate, planes not symmetric.
+    # Hilltop at half size: blocks, one magnet disc facing a plain steel disc, planes not
+    # symmetric about the stator.
     "hilltop-half": (
         "hilltop",
         {
-            "magnets": {"length_mm": 25.0, "width_mm": 12.5, "thickness_mm": 6.0, "pitch_radius_mm": 55.0},
+            "magnets": HILLTOP_HALF_MAGNETS,
+            "stator": {"thickness_mm": 6.0, "coil_clearance_mm": 1.0},
+            "rotor": {**HILLTOP_HALF_ROTOR, "steel_disc_thickness_mm": 4.0},
+        },
+        2.0,
+    ),
+    # The same over a stationary steel plate on the stator's face in place of the plain disc.
+    "hilltop-plate-half": (
+        "hilltop",
+        {
+            "magnets": HILLTOP_HALF_MAGNETS,
             "stator": {"thickness_mm": 6.0, "coil_clearance_mm": 1.0},
             "rotor": {
-                "running_clearance_mm": 1.25,
-                "bore_diameter_mm": 20.0,
-                "disc_thickness_mm": 5.0,
+                **HILLTOP_HALF_ROTOR,
+                "topology": "one_disc_steel_stator",
+                "steel_disc_thickness_mm": None,
                 "stator_plate_thickness_mm": 4.0,
             },
         },
@@ -184,6 +199,9 @@ def rotor_from_spec(spec: Spec, reflections: int) -> list:
     if ro.topology == "two_discs":
         real_z = [-(s / 2 + g + h / 2), s / 2 + g + h / 2]
         planes = [-(s / 2 + g + h), s / 2 + g + h]
+    elif ro.topology == "one_disc_steel_disc":  # the plain disc's face, a running clearance up
+        real_z = [-(s / 2 + g + h / 2)]
+        planes = [-(s / 2 + g + h), s / 2 + g]
     else:
         assert ro.topology == "one_disc_steel_stator"
         real_z = [-(s / 2 + g + h / 2)]

@@ -9,12 +9,14 @@ from pathlib import Path
 import magpylib
 import numpy as np
 import pytest
+from demos import variant
 from scipy.spatial.transform import Rotation
 
 from layout import field
 from layout.design import winding_layout
 from layout.field import Sources, bz, bz_each, image_sources, near_sources
 from layout.geometry import Geometry, resolve_geometry
+from layout.materials import MAGNET_GRADES
 from layout.spec import load_spec
 
 DESIGNS = Path(__file__).resolve().parents[1] / "designs"
@@ -222,6 +224,103 @@ def test_image_series_meets_the_steel_at_right_angles(name):
         at[:, 2] = plane
         b = magpylib.getB(objs, at * 1e-3, sumup=True)
         assert np.hypot(b[:, 0], b[:, 1]).max() < 1e-4 * np.abs(b[:, 2]).max()
+
+
+# --- a plain steel disc across the stator ------------------------------------------------------
+
+
+ALUMINIUM = (("rotor.disc_material", "aluminium"),)  # a magnet disc that is not steel
+
+
+def gap_points(geo: Geometry, z_mm) -> np.ndarray:
+    """Points (mm) over the coils' radial band and one pole pitch about 0°, at each height."""
+    c = geo.coil
+    pole = 2 * math.pi / magnets_per_disc(geo)
+    rr, tt, zz = np.meshgrid(
+        np.linspace(c.r_min_mm, c.r_max_mm, 7), np.linspace(-pole / 2, pole / 2, 9), z_mm, indexing="ij"
+    )
+    return np.stack([rr * np.cos(tt), rr * np.sin(tt), zz], axis=-1).reshape(-1, 3)
+
+
+def mirrored_rotor(spec) -> list:
+    """The magnet disc of a one-disc design and its mirror image in the plane the running
+    clearance above the stator (the plain disc's face) as magpylib objects (SI), from the
+    spec alone: block magnets, magnet j at 2πj/P, alternating, magnet 1 magnetised +z, both
+    copies magnetised alike along z."""
+    s, g = spec.stator.thickness_mm, spec.rotor.running_clearance_mm
+    mg = spec.magnets
+    br = mg.remanence_t or MAGNET_GRADES[mg.grade].remanence_t
+    face = s / 2 + g
+    z_magnet = -(s / 2 + g + mg.thickness_mm / 2)
+    objs = []
+    for j in range(mg.count):
+        ang = 2 * math.pi * j / mg.count
+        xy = mg.pitch_radius_mm * np.array([math.cos(ang), math.sin(ang)])
+        for z in (z_magnet, 2 * face - z_magnet):
+            objs.append(
+                magpylib.magnet.Cuboid(
+                    polarization=(0.0, 0.0, br if j % 2 == 0 else -br),
+                    dimension=np.array([mg.length_mm, mg.width_mm, mg.thickness_mm]) * 1e-3,
+                    position=np.array([xy[0], xy[1], z]) * 1e-3,
+                    orientation=Rotation.from_euler("z", ang),
+                )
+            )
+    return objs
+
+
+def test_a_plain_steel_disc_mirrors_the_magnet_disc():
+    # Method of images (Furlani 2001; Jackson, Classical Electrodynamics, 3rd ed., §5.13): a
+    # μ→∞ half space is the mirror image of every magnet in its face, normal magnetisation
+    # kept. With a non-magnetic magnet disc the plain disc's face is the only steel, and the
+    # image is exact: the field between the discs is that of a two-disc rotor whose mid-plane
+    # is that face. Brute force: magpylib's own magnet objects, real and mirrored, placed
+    # here from the design's figures alone.
+    spec = variant("hilltop", *ALUMINIUM)
+    s, g = spec.stator.thickness_mm, spec.rotor.running_clearance_mm
+    face = s / 2 + g
+    geo = resolve_geometry(spec, (1,))
+    assert geo.iron_planes_z_mm == (face,)
+    objs = mirrored_rotor(spec)
+    # The stator's mid-plane, its faces and just short of the steel.
+    pts = gap_points(geo, [0.0, -s / 2, s / 2, face - 0.2])
+    want = magpylib.getB(objs, pts * 1e-3, sumup=True)[:, 2]
+    got = bz(image_sources(geo, pts[::13]), pts)
+    np.testing.assert_allclose(got, want, rtol=1e-9, atol=1e-9 * np.abs(want).max())
+    # Without the plain disc (one_disc_coreless) the field in the coils is clearly weaker.
+    bare = resolve_geometry(variant("hilltop", *ALUMINIUM, ("rotor.topology", "one_disc_coreless")), (1,))
+    assert bare.iron_planes_z_mm == ()
+    mid = gap_points(geo, [0.0])
+    without, with_disc = (np.abs(bz(image_sources(g_, mid), mid)).max() for g_ in (bare, geo))
+    assert without < 0.8 * with_disc
+
+
+def test_a_plain_steel_disc_gives_half_of_a_two_disc_machine():
+    # The same symmetry with steel behind the magnets too: the field between a steel magnet
+    # disc and a plain steel disc at spacing D (magnet back to plain face) is the lower half
+    # of a two-disc machine with steel discs 2D apart, mirrored about its mid-plane, where the
+    # tangential field vanishes by symmetry. That machine has stator thickness 2(s + g) and the
+    # same running clearance; each series is cut where it has converged (CONVERGENCE_REL).
+    d = variant("hilltop")
+    s, g = d.stator.thickness_mm, d.rotor.running_clearance_mm
+    face = s / 2 + g
+    geo = resolve_geometry(d, (1,))
+    assert geo.iron_planes_z_mm[-1] == pytest.approx(face)
+    two = variant(
+        "hilltop",
+        ("rotor.topology", "two_discs"),
+        ("rotor.steel_disc_thickness_mm", None),
+        ("stator.thickness_mm", 2 * (s + g)),
+    )
+    geo2 = resolve_geometry(two, (1,))
+    heights = np.array([0.0, -s / 2, s / 2, face - 0.2])
+    pts = gap_points(geo, heights)
+    shifted = pts - np.array([0.0, 0.0, face])
+    ours = bz(image_sources(geo, pts[::13]), pts)
+    theirs = bz(image_sources(geo2, shifted[::13]), shifted)
+    assert rel_err(ours, theirs) < 5 * field.CONVERGENCE_REL
+    # and the two-disc machine is symmetric: its upper half gives the same field mirrored.
+    above = shifted * np.array([1.0, 1.0, -1.0])
+    assert rel_err(bz(image_sources(geo2, above[::13]), above), theirs) < 5 * field.CONVERGENCE_REL
 
 
 # --- trimming far magnets ------------------------------------------------------------------------

@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import math
 
+import magpylib
+import numpy as np
 import pytest
-from demos import DEMOS, design, variant
+from demos import DEMOS, PLATE, design, variant
 
 from layout.design import Design
-from layout.forces import STEEL_B_LIMIT_T, hoop_stress_mpa, magnet_pull_n
+from layout.forces import STEEL_B_LIMIT_T, STEEL_DISC_NAME, hoop_stress_mpa, magnet_pull_n
 from layout.spec import Spec
 
 MU0 = 4e-7 * math.pi  # vacuum permeability, H/m (CODATA, pre-2019 exact value)
@@ -198,7 +200,101 @@ def test_thickness_the_advice_names_for_saturation_cures_it():
 
 
 def test_thin_stator_plate_is_the_plate_that_saturates():
-    d = design("hilltop", ("rotor.stator_plate_thickness_mm", 2.0))
+    d = design("hilltop", *PLATE, ("rotor.stator_plate_thickness_mm", 2.0))
     assert d.forces.steel_plate == "stator plate"
     assert d.forces.steel_peak_b_t > 1.5
     assert any(w.code == "steel.saturation" and "stator plate" in w.message for w in d.warnings)
+
+
+# --- a magnet disc facing a plain steel disc (hilltop) ------------------------------------------
+
+
+def test_attraction_of_the_plain_disc_is_the_maxwell_stress_on_its_face():
+    # With a non-magnetic magnet disc the plain disc's face is the only steel, its image exact
+    # and the field there purely normal: the pull is ∫ Bz²/(2μ0) over the whole face (Maxwell
+    # stress; Furlani 2001). Brute force here with magpylib's magnet objects, magnets and
+    # their mirror images placed from the design's figures, over a band reaching 100 mm past
+    # the magnets on a 0.5 mm grid (one pole pitch, times the magnet count by symmetry).
+    from test_field import mirrored_rotor
+
+    d = design("hilltop", ("rotor.disc_material", "aluminium"))
+    spec = d.spec
+    face = spec.stator.thickness_mm / 2 + spec.rotor.running_clearance_mm
+    r0, r1, nr, nt = 20.0, 250.0, 460, 120
+    dr, pole = (r1 - r0) / nr, 2 * math.pi / spec.magnets.count
+    dt = pole / nt
+    rr, tt = np.meshgrid(
+        r0 + dr * (np.arange(nr) + 0.5), -pole / 2 + dt * (np.arange(nt) + 0.5), indexing="ij"
+    )
+    pts = np.stack([rr * np.cos(tt), rr * np.sin(tt), np.full(rr.shape, face)], axis=-1).reshape(-1, 3)
+    b = magpylib.getB(mirrored_rotor(spec), pts * 1e-3, sumup=True)
+    assert np.abs(b[:, :2]).max() < 1e-9 * np.abs(b[:, 2]).max()  # normal to the steel
+    brute = float((b[:, 2] ** 2 * (rr * dr * dt).ravel()).sum() * 1e-6 / (2 * MU0) * spec.magnets.count)
+    # The model integrates over the magnets' band only: the fringe beyond it is under 1 %.
+    assert d.forces.axial_force_n == pytest.approx(brute, rel=0.01)
+    assert d.forces.axial_force_n < brute
+
+
+def test_attraction_of_the_plain_disc_is_that_of_the_mirror_two_disc_machine():
+    # The mid-plane of two equal discs carries no tangential field, so a plain steel disc
+    # there pulls exactly as the second magnet disc would (method of images): the two-disc
+    # machine with stator thickness 2(s + g) and the same running clearance (limiting case).
+    s, g = 12.0, 2.5  # hilltop's stator and running clearance
+    d = design("hilltop")
+    mirror = design(
+        "hilltop",
+        ("rotor.topology", "two_discs"),
+        ("rotor.steel_disc_thickness_mm", None),
+        ("stator.thickness_mm", 2 * (s + g)),
+    )
+    assert d.forces.axial_force_n == pytest.approx(mirror.forces.axial_force_n, rel=1e-3)
+    # Closer steel pulls harder than the same discs farther apart, and a stationary plate on
+    # the stator's face (nearer the magnets by the running clearance) harder still.
+    plate = design("hilltop", *PLATE)
+    assert plate.forces.axial_force_n > d.forces.axial_force_n > 0
+
+
+def test_the_plain_disc_carries_less_flux_than_the_disc_behind_the_magnets():
+    # The disc behind the magnets carries every line of their flux, the leakage between
+    # neighbours included; the plain disc only what crosses the stator. Both thicknesses
+    # enter as 1/t (the field does not depend on them: images in their surfaces).
+    d = design("hilltop")
+    f = d.forces
+    assert f.steel_plate == "rotor disc" and f.steel_peak_b_t < STEEL_B_LIMIT_T
+    thin = design("hilltop", ("rotor.steel_disc_thickness_mm", 2.0))
+    assert thin.forces.steel_plate == STEEL_DISC_NAME
+    half = design("hilltop", ("rotor.steel_disc_thickness_mm", 1.0)).forces.steel_peak_b_t
+    assert half == pytest.approx(2 * thin.forces.steel_peak_b_t, rel=1e-9)
+    # hilltop's own 8 mm plain disc (the same flux per pole over four times the section) runs
+    # well below the 10 mm disc behind the magnets.
+    assert thin.forces.steel_peak_b_t * 2.0 / 8.0 < 0.8 * f.steel_peak_b_t
+
+
+def test_a_thin_plain_disc_saturates_and_the_warning_names_it_and_its_key():
+    d = design("hilltop", ("rotor.steel_disc_thickness_mm", 2.0))
+    # Common practice: keep mild steel under about 1.5 T.
+    assert d.forces.steel_peak_b_t > 1.5
+    warn = next(w for w in d.warnings if w.code == "steel.saturation")
+    assert "plain disc" in warn.message and "rotor.steel_disc_thickness_mm" in warn.message
+    cured = design("hilltop", ("rotor.steel_disc_thickness_mm", d.forces.steel_needed_mm))
+    assert "steel.saturation" not in {w.code for w in cured.warnings}
+
+
+def test_plain_disc_hoop_stress_mass_by_hand():
+    d = design("hilltop")
+    f = d.forces
+    # Steel (7.85 g/cm³, ν = 0.29, yield 235 MPa; common handbook values), outer radius the
+    # magnets' edge 135 mm plus the 10 mm rim, bore 20 mm, 600 rpm, no magnets: Timoshenko &
+    # Goodier, σ = (3+ν)/4·ρω²·[R_o² + (1−ν)/(3+ν)·R_i²].
+    omega = 2 * math.pi * 600 / 60
+    sigma = (3 + 0.29) / 4 * 7850 * omega**2 * (0.145**2 + 0.71 / 3.29 * 0.02**2) / 1e6
+    assert f.steel_disc_hoop_stress_mpa == pytest.approx(sigma, rel=1e-9)
+    assert f.steel_disc_hoop_safety_factor == pytest.approx(235.0 / sigma, rel=1e-9)
+    # The magnet disc, of the same steel, carries the magnets' rim load on top.
+    assert f.hoop_stress_mpa > sigma
+    assert f.steel_disc_mass_kg == pytest.approx(math.pi * (145**2 - 20**2) * 8 * 7.85e-6, rel=1e-9)
+    # Left out, the plain disc is as thick as the magnet disc.
+    same = design("hilltop", ("rotor.steel_disc_thickness_mm", None)).forces
+    assert same.steel_disc_mass_kg == pytest.approx(f.disc_mass_kg, rel=1e-9)
+    for other in ("millrace", "pedalbox"):
+        assert design(other).forces.steel_disc_mass_kg is None

@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 import pytest
-from demos import design
+from demos import PLATE, design
 
 from fab import outlines as o
 from fab.fit import Shape, gap_mm, inside
@@ -231,9 +231,38 @@ def test_pedalbox_jacking_screws_pass_inside_the_stator():
 
 
 def test_steel_stator_plate_carries_the_jacking_screws():
-    d = design("hilltop")
+    d = design("hilltop", *PLATE)
     lay = o.disc_layout(d)
     assert lay.jacking is not None and lay.jacking.on == "stator plate"
     plate = o.stator_plate_flat(d)
     assert plate.count("jack") == d.spec.rotor.jacking_screws
     assert o.rotor_disc_flat(d, 1).count("landing") == d.spec.rotor.jacking_screws
+
+
+def test_plain_steel_disc_has_the_hub_and_the_tapped_jacking_holes_and_no_magnets():
+    d = design("hilltop")
+    magnets, plain = o.rotor_disc_flat(d, 1), o.rotor_disc_flat(d, 2)
+    assert plain.part == "rotor_disc_2" and "plain steel" in plain.title
+    assert plain.thickness_mm == 8.0 and plain.thickness_key == "rotor.steel_disc_thickness_mm"
+    assert _radius(plain.outline.path) == pytest.approx(_radius(magnets.outline.path))
+    # No magnets to place: no pockets, no places, no polarity marks; index and number stay.
+    assert not plain.pockets
+    for kind in ("magnet", "mark", "landing", "pocket"):
+        assert plain.count(kind) == 0, kind
+    assert plain.count("index") == 1 and plain.count("number") == 1
+    # The same hub, bore, dowels and balance holes as the magnet disc once it is turned over
+    # (x, y) → (x, −y) to run; its tapped holes over the pads marked on the magnet disc.
+    for kind in ("bore", "hub", "dowel", "balance"):
+        a = sorted(tuple(np.round(f.path.as_circle()[0], 6)) for f in magnets.holes if f.kind == kind)
+        b = sorted(
+            tuple(np.round(f.path.as_circle()[0] * (1, -1), 6) + 0.0) for f in plain.holes if f.kind == kind
+        )
+        assert a == b and a, kind
+    lay = o.disc_layout(d)
+    assert d.forces.jacking_screws and lay.jacking.on == "disc 2"
+    pads = sorted(tuple(np.round(f.path.as_circle()[0], 6)) for f in magnets.reference if f.kind == "landing")
+    tips = sorted(
+        tuple(np.round(f.path.as_circle()[0] * (1, -1), 6) + 0.0) for f in plain.holes if f.kind == "jack"
+    )
+    assert len(tips) == d.spec.rotor.jacking_screws and pads == tips
+    assert o.stator_layout(d).plate_inner_radius_mm is None  # no stationary plate

@@ -5,6 +5,7 @@ from __future__ import annotations
 import hashlib
 import io
 import json
+import math
 import os
 import signal
 import subprocess
@@ -172,6 +173,72 @@ def test_assembly_read_back_has_no_collisions_and_the_clearance(millrace_package
         cq.Solid.makeCylinder(sl.inner_radius_mm, 2 * s, cq.Vector(0, 0, -s))
     )
     assert BRepExtrema_DistShapeShape(groups[0], ring.wrapped).Value() == pytest.approx(2.0, abs=1e-6)
+
+
+# --- a magnet disc facing a plain steel disc ----------------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def hilltop_package(tmp_path_factory) -> Path:
+    """The package of hilltop: one magnet disc, a plain steel disc across the stator."""
+    folder = tmp_path_factory.mktemp("out") / "hilltop"
+    pkg.build_package(REPO / "designs" / "hilltop.toml", folder)
+    return folder
+
+
+def test_plain_disc_package_holds_both_discs_and_one_template(hilltop_package):
+    manifest = json.loads((hilltop_package / "manifest.json").read_text(encoding="utf-8"))
+    files = {f["file"]: f for f in manifest["files"]}
+    assert {"rotor_disc_1.step", "rotor_disc_1.dxf", "rotor_disc_2.step", "rotor_disc_2.dxf"} <= set(files)
+    assert {"magnet_template_1.stl", "magnet_template_1.dxf"} <= set(files)  # magnets on steel
+    for name in ("magnet_template_2.stl", "magnet_template_2.dxf", "stator_plate.step", "stator_plate.dxf"):
+        assert name not in files, name
+    plain = files["rotor_disc_2.dxf"]
+    assert plain["material"] == "steel" and plain["make"] == "cut" and plain["thickness_mm"] == 8.0
+    assert "jacking screw" in plain["how"] and "pocket" not in plain["how"].lower()
+    # The running clearance on both sides of the stator, checked on the assembly.
+    assert manifest["checks"]["collisions"] == 0
+    assert manifest["checks"]["running_clearance_mm"] == pytest.approx(2.5, abs=1e-6)
+
+
+def test_plain_disc_files_read_back(hilltop_package):
+    manifest = json.loads((hilltop_package / "manifest.json").read_text(encoding="utf-8"))
+    files = {f["file"]: f for f in manifest["files"]}
+    _, valid, volume = read_step(hilltop_package / "rotor_disc_2.step")
+    assert valid and volume == pytest.approx(files["rotor_disc_2.step"]["volume_mm3"], rel=1e-3)
+    # An 8 mm steel annulus 290 mm across with a 40 mm bore, less its holes (a few per cent).
+    annulus = math.pi * (145.0**2 - 20.0**2) * 8.0
+    assert 0.95 * annulus < volume < annulus
+    doc = ezdxf.readfile(hilltop_package / "rotor_disc_2.dxf")
+    auditor = doc.audit()
+    assert not auditor.has_errors and not auditor.has_fixes
+    layers = {e.dxf.layer for e in doc.modelspace()}
+    assert "CUT" in layers and "POCKET" not in layers
+    # Two discs, 12 magnets, the cast stator and 9 coils: nothing else in the assembly.
+    shape, valid, _ = read_step(hilltop_package / "assembly.step")
+    from OCP.TopAbs import TopAbs_SOLID
+    from OCP.TopExp import TopExp_Explorer
+
+    exp, n = TopExp_Explorer(shape, TopAbs_SOLID), 0
+    while exp.More():
+        n += 1
+        exp.Next()
+    assert valid and n == 2 + 12 + 1 + 9
+
+
+def test_plain_disc_balance_plan_and_sheet(hilltop_package):
+    plan = json.loads((hilltop_package / "balance.json").read_text(encoding="utf-8"))
+    assert [d["disc"] for d in plan["discs"]] == [1, 2]
+    assert len(plan["discs"][0]["assignment"]) == 12 and plan["discs"][1]["assignment"] == []
+    from pypdf import PdfReader
+
+    text = " ".join(
+        " ".join(p.extract_text().split()) for p in PdfReader(hilltop_package / "hilltop-sheet.pdf").pages
+    )
+    assert "one magnet disc facing a plain steel disc" in text
+    assert text.count("Magnet map:") == 1  # the plain disc has no magnets to map
+    assert "the plain steel disc" in text and "plain disc, steel" in text
+    assert "rotor_disc_2.dxf" in text
 
 
 def test_safety_notes_carry_the_design_warnings(millrace_package):

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from demos import design
+from demos import PLATE, design
 
 from fab import outlines as o
 from fab import solids as S
@@ -116,7 +116,7 @@ def test_template_mould_jig_coil_casting_volumes():
 
 
 def test_step_round_trip(tmp_path):
-    d = design("hilltop")
+    d = design("hilltop", *PLATE)
     for name, solid in [
         ("disc", S.rotor_disc(d, 1)),
         ("plate", S.stator_plate(d)),
@@ -128,6 +128,30 @@ def test_step_round_trip(tmp_path):
         _, valid, volume = read_step(path)
         assert valid, name
         assert volume == pytest.approx(solid.Volume(), rel=REL), name
+
+
+def test_plain_steel_disc_solid_and_its_place_above_the_stator(tmp_path):
+    d = design("hilltop")
+    solid = S.rotor_disc(d, 2)
+    flat = o.rotor_disc_flat(d, 2)
+    assert solid.isValid() and not flat.pockets
+    # Steel is cut and marked from its drawing: its solid is the prism less its holes.
+    assert solid.Volume() == pytest.approx(flat_volume(flat, engrave=False), rel=1e-6)
+    box = solid.BoundingBox()
+    assert box.zlen == pytest.approx(8.0) and box.xlen == pytest.approx(290.0)
+    path = tmp_path / "plain.step"
+    solid.exportStep(str(path))
+    _, valid, volume = read_step(path)
+    assert valid and volume == pytest.approx(solid.Volume(), rel=REL)
+    # In the assembly it runs the running clearance above the stator's face, as the magnets
+    # do below it: the stator (12 mm) between z = ±6 mm, 2.5 mm clearance each side.
+    parts = {p.name: p for p in S.assembly(d, {2: solid})}
+    top = parts["rotor_disc_2"].shape.BoundingBox()
+    assert top.zmin == pytest.approx(6.0 + 2.5, abs=1e-6)
+    assert top.zmax == pytest.approx(6.0 + 2.5 + 8.0, abs=1e-6)
+    faces = max(p.shape.BoundingBox().zmax for n, p in parts.items() if n.startswith("magnet_"))
+    assert faces == pytest.approx(-6.0 - 2.5, abs=1e-6)  # the magnets' faces towards the stator
+    assert parts["rotor_disc_2"].turns and "stator_plate" not in parts
 
 
 @pytest.mark.parametrize("part", ["disc", "template", "cheek"])
@@ -149,13 +173,16 @@ def test_stl_is_watertight(tmp_path, part):
     assert mesh_volume(tris) == pytest.approx(solid.Volume(), rel=0.01)
 
 
-@pytest.mark.parametrize(("demo", "changes"), [("millrace", PLA), ("hilltop", ()), ("pedalbox", ())])
+@pytest.mark.parametrize(
+    ("demo", "changes"), [("millrace", PLA), ("hilltop", ()), ("hilltop", PLATE), ("pedalbox", ())]
+)
 def test_assembly_has_no_collisions_and_the_design_clearance(demo, changes):
     d = design(demo, *changes)
     parts = S.assembly(d)
     names = [p.name for p in parts]
     magnets = d.spec.magnets.count * (2 if d.spec.rotor.topology == "two_discs" else 1)
     assert sum(n.startswith("magnet_") for n in names) == magnets
+    assert ("stator_plate" in names) == (d.spec.rotor.topology == "one_disc_steel_stator")
     assert sum(n.startswith("coil_") for n in names) == len(d.geometry.coil_indices)
     check = S.check_assembly(parts, S.standing_envelope(d))
     assert check.collisions == ()

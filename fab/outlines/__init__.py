@@ -31,6 +31,7 @@ from fab.outlines.discs import (  # noqa: F401
     _places,
     _ring_hole,
     disc_layout,
+    disc_title,
     hub_radius_mm,
     jacking,
     magnet_template_flat,

@@ -1,5 +1,5 @@
 """Rotor discs and their magnet placing templates: the hub, dowels, jacking screws, pockets
-and marks, as made (magnet side up)."""
+and marks, as made (magnet side up; a plain steel disc with the face towards the stator up)."""
 
 from __future__ import annotations
 
@@ -28,6 +28,8 @@ from layout.rotor import (
     BALANCE_SCREW,
     balance_positions,
     disc_count,
+    disc_thickness_mm,
+    is_plain_disc,
     is_steel_disc,
     magnet_footprint_half_mm,
     part_angle_deg,
@@ -83,8 +85,9 @@ def hub_radius_mm(spec: Spec) -> float:
 def jacking(design: Design) -> Jacking | None:
     """Tapped holes for screws that lower the attracting parts together, if the force needs them.
 
-    Two discs: in disc 2, bearing on disc 1. Steel stator: in the stator plate, bearing on the
-    disc. Inside the stator's bore, clear of the hub bolts and dowels.
+    Two discs, or a magnet disc and a plain steel disc: in disc 2, bearing on disc 1. Steel
+    stator: in the stator plate, bearing on the disc. Inside the stator's bore, clear of the
+    hub bolts and dowels.
     """
     spec, f = design.spec, design.forces
     ro = spec.rotor
@@ -109,7 +112,7 @@ def jacking(design: Design) -> Jacking | None:
     dist = np.hypot(r * np.cos(a) - ro_ * np.cos(b), r * np.sin(a) - ro_ * np.sin(b))
     gap = (dist - d / 2 - t.tap_drill_mm / 2).min(axis=(1, 2))
     best = float(offsets[int(np.argmax(gap > gap.max() - 1e-9))])
-    on = "disc 2" if ro.topology == "two_discs" else "stator plate"
+    on = "stator plate" if ro.topology == "one_disc_steel_stator" else "disc 2"
     return Jacking(
         screw=t.name,
         tap_drill_mm=t.tap_drill_mm,
@@ -250,10 +253,12 @@ def _places(design: Design, lay: DiscLayout, disc: int, half, kind: str, key: st
 
 
 def rotor_disc_flat(design: Design, disc: int, kerf_mm: float = 0.0) -> Flat:
-    """Rotor disc `disc` as made, magnet side up."""
+    """Rotor disc `disc` as made, magnet side up; a plain steel disc has the hub's holes, the
+    jacking screws' tapped holes, the balance holes and the marks, and no magnet places."""
     spec = design.spec
     ro = spec.rotor
     lay = disc_layout(design)
+    plain = is_plain_disc(spec, disc)
     g = kerf_mm / 2
     outline = Feature(
         "outline",
@@ -263,6 +268,7 @@ def rotor_disc_flat(design: Design, disc: int, kerf_mm: float = 0.0) -> Flat:
         2 * lay.outer_radius_mm,
     )
     holes = _common_holes(design, lay, disc, g)
+    # A plain steel disc has no magnets (layout.rotor.pocket_marks): no places, no pockets.
     reference = _places(design, lay, disc, lay.magnet_half_mm, "magnet", "magnets.pitch_radius_mm")
     jack = lay.jacking
     if jack is not None:
@@ -305,13 +311,11 @@ def rotor_disc_flat(design: Design, disc: int, kerf_mm: float = 0.0) -> Flat:
             Feature(f.kind, f.path, f.label, f.key, f.value, lay.pocket_depth_mm)
             for f in _places(design, lay, disc, lay.place_half_mm, "pocket", "magnets.pitch_radius_mm")
         )
-    where = "lower" if disc == 1 else "upper"
-    title = f"rotor disc {disc} ({where})" if disc_count(spec) == 2 else "rotor disc"
     return Flat(
         part=f"rotor_disc_{disc}",
-        title=title,
-        thickness_mm=ro.disc_thickness_mm,
-        thickness_key="rotor.disc_thickness_mm",
+        title=disc_title(spec, disc),
+        thickness_mm=disc_thickness_mm(spec, disc),
+        thickness_key="rotor.steel_disc_thickness_mm" if plain else "rotor.disc_thickness_mm",
         outline=outline,
         holes=tuple(holes),
         pockets=pockets,
@@ -319,6 +323,14 @@ def rotor_disc_flat(design: Design, disc: int, kerf_mm: float = 0.0) -> Flat:
         reference=tuple(reference),
         web_mm=ro.min_web_mm,
     )
+
+
+def disc_title(spec: Spec, disc: int) -> str:
+    """How drawings, notes and errors name a rotor disc."""
+    where = "lower" if disc == 1 else "upper"
+    if spec.rotor.topology == "one_disc_steel_disc":
+        return f"rotor disc {disc} ({'plain steel' if is_plain_disc(spec, disc) else 'magnets'}, {where})"
+    return f"rotor disc {disc} ({where})" if disc_count(spec) == 2 else "rotor disc"
 
 
 def template_thickness_mm(spec: Spec) -> float:

@@ -90,6 +90,7 @@ from fab.sheet.magnet_maps import (
     _draw_scale_bar,
     _magnet_map,
     _map_scale,
+    _plain_disc_words,
     _pocket_table,
     _scale_bar_mm,
 )

@@ -8,7 +8,15 @@ from fab.sheet.words import _disc_name, _magnet_words, _pocket_word
 from layout.bill import RESIN_MARGIN_PCT, WIRE_MARGIN_PCT
 from layout.design import Design
 from layout.materials import DISC_MATERIALS
-from layout.rotor import BALANCE_SCREW, disc_count
+from layout.rotor import (
+    BALANCE_SCREW,
+    PLAIN_DISC,
+    disc_count,
+    disc_material,
+    disc_thickness_mm,
+    is_plain_disc,
+    rotor_discs,
+)
 
 
 def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
@@ -20,6 +28,7 @@ def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
     strands = f"; {pr.wire.strands} strands in hand, every strand counted" if pr.wire.strands > 1 else ""
     discs = disc_count(spec)
     n_mag = lay.magnets * discs
+    turning = len(rotor_discs(spec))  # with a plain steel disc, one more than the magnet discs
     rows = [
         (
             f"magnet wire, {pr.wire.name} enamelled copper",
@@ -49,7 +58,7 @@ def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
     mat = DISC_MATERIALS[ro.disc_material]
     rows.append(
         (
-            f"rotor disc{'s' if discs > 1 else ''}, {mat.name}",
+            f"{'magnet' if turning > discs else 'rotor'} disc{'s' if discs > 1 else ''}, {mat.name}",
             f"{discs} x {2 * f.disc_outer_radius_mm:.0f} mm dia. x {ro.disc_thickness_mm:g} mm",
             f"{f.disc_mass_kg:.2f} kg each before the magnets; bore {ro.bore_diameter_mm:g} mm",
         )
@@ -58,10 +67,19 @@ def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
         rows.append(
             ("stator back plate, steel", f"{ro.stator_plate_thickness_mm:g} mm thick", "behind the coils")
         )
+    if f.steel_disc_mass_kg is not None:
+        rows.append(
+            (
+                f"plain disc, {disc_material(spec, PLAIN_DISC).name}",
+                f"1 x {2 * f.disc_outer_radius_mm:.0f} mm dia. x {disc_thickness_mm(spec, PLAIN_DISC):g} mm",
+                f"{f.steel_disc_mass_kg:.2f} kg; bore {ro.bore_diameter_mm:g} mm; no magnets: it faces the "
+                "magnet disc across the stator and turns with it",
+            )
+        )
     rows.append(
         (
             "hub bolts",
-            f"{ro.hub_bolts} per disc" if discs > 1 else f"{ro.hub_bolts}",
+            f"{ro.hub_bolts} per disc" if turning > 1 else f"{ro.hub_bolts}",
             f"through {ro.hub_hole_diameter_mm:g} mm holes, length to suit the hub",
         )
     )
@@ -70,7 +88,7 @@ def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
             "dowel pins",
             "2",
             f"{ro.dowel_diameter_mm:g} mm dia.; they clock "
-            + ("the two discs" if discs > 1 else "the disc to the hub"),
+            + ("the two discs" if turning > 1 else "the disc to the hub"),
         )
     )
     if f.jacking_screws:
@@ -78,7 +96,7 @@ def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
             (
                 "jacking screws",
                 f"{ro.jacking_screws} x {ro.jacking_screw}, fully threaded",
-                f"to lower the {'discs together' if discs > 1 else 'disc onto the stator'} "
+                f"to lower the {'discs together' if turning > 1 else 'disc onto the stator'} "
                 f"against {f.axial_force_n:.0f} N of pull; with nuts",
             )
         )
@@ -142,7 +160,7 @@ def _balance_report(ctx: _Ctx, b) -> list:
             "weighed: placed by mass as the map shows" if b.weighed else "not weighed: nominal masses",
         ),
     ]
-    if disc_count(d.spec) > 1:
+    if len(b.discs) > 1:
         rows.append(("static unbalance, both discs", f"{b.static_unbalance_gmm:.0f} g·mm"))
         rows.append(("couple unbalance", f"{b.couple_unbalance_gmm_mm:.0f} g·mm²"))
     if not b.weighed:
@@ -158,7 +176,11 @@ def _balance_report(ctx: _Ctx, b) -> list:
     for db in b.discs:
         ok = db.unbalance_after_gmm <= db.permissible_gmm
         corr = db.correction
-        if corr.needed:
+        if corr.needed and is_plain_disc(d.spec, db.disc):
+            # No pockets to count from: the angle on the part, from its index mark.
+            at = f"{corr.radius_mm:.0f} mm, {corr.angle_deg:.0f}° from the index mark"
+            what = f"add {corr.add_g:.1f} g at {at}"
+        elif corr.needed:
             a, c2 = _between_pockets(d, db.disc, corr.angle_deg)
             what = (
                 f"add {corr.add_g:.1f} g at {corr.radius_mm:.0f} mm between {_pocket_word(d)}s {a} and {c2}"

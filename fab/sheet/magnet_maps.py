@@ -10,7 +10,15 @@ import math
 from fab.sheet.document import MM, SANS, SANS_BOLD, _Ctx, _figure, _p, _plain, _table
 from fab.sheet.words import _disc_name, _pocket_word
 from layout.design import Design
-from layout.rotor import BALANCE_SCREW, balance_positions, is_steel_disc, pocket_marks, pockets_either_side
+from layout.rotor import (
+    BALANCE_SCREW,
+    PLAIN_DISC,
+    balance_positions,
+    is_plain_disc,
+    is_steel_disc,
+    pocket_marks,
+    pockets_either_side,
+)
 
 # Reduction scales of ISO 5455 (technical drawings).
 ISO_5455_SCALES = (1, 2, 5, 10, 20, 50, 100)
@@ -48,6 +56,23 @@ def _clocking_words(design: Design) -> str:
     )
 
 
+def _plain_disc_words(design: Design) -> str:
+    """Fitting the plain steel disc that faces the magnet disc (it has no map of its own)."""
+    jack = design.forces.jacking_screws
+    holes = " Its tapped jacking screw holes then sit over this disc's pads." if jack else ""
+    lower = (
+        f" Lower it on the jacking screws, never by hand: the magnets pull it with about "
+        f"{design.forces.axial_force_n:.0f} N."
+        if jack
+        else ""
+    )
+    return (
+        "The plain steel disc (disc 2) carries no magnets. It goes on the shaft above the stator, its "
+        "marked face (index and 2) towards the stator, and turns with this disc. Line up the index marks "
+        f"and fit the dowels through both discs.{holes}{lower}"
+    )
+
+
 def _magnet_map(ctx: _Ctx, disc: int, balance) -> list:
     from reportlab.platypus import KeepTogether
 
@@ -59,7 +84,9 @@ def _magnet_map(ctx: _Ctx, disc: int, balance) -> list:
     r_out = d.forces.disc_outer_radius_mm
     # Heading, the words round the map and the scale bar take about this much of the page;
     # the pocket table (with a balance plan) may run on to the next page.
-    reserve = (47 + (20 if disc == 2 else 0) + (9 if corr is not None and corr.needed else 0)) * MM
+    plain_words = disc == 1 and is_plain_disc(d.spec, PLAIN_DISC)
+    second = disc == 2 or plain_words  # words for fitting the second disc
+    reserve = (47 + (20 if second else 0) + (9 if corr is not None and corr.needed else 0)) * MM
     n_scale = _map_scale(2 * r_out, ctx.frame_w, ctx.frame_h - reserve)
     s = MM / n_scale  # points on paper per mm on the part
     out = [_p(ctx, f"Magnet map: {_disc_name(d, disc)}", "h1")]
@@ -101,6 +128,8 @@ def _magnet_map(ctx: _Ctx, disc: int, balance) -> list:
     )
     if disc == 2:
         out.append(_p(ctx, _clocking_words(d)))
+    if plain_words:
+        out.append(_p(ctx, _plain_disc_words(d)))
     if corr is not None and corr.needed:
         out.append(_p(ctx, _correction_words(d, disc, corr)))
     if balance is not None:

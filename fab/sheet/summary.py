@@ -16,6 +16,7 @@ def _topology_words(design: Design) -> str:
     return {
         "two_discs": "two magnet discs either side of a coreless stator",
         "one_disc_steel_stator": "one magnet disc over a steel-backed stator",
+        "one_disc_steel_disc": "one magnet disc facing a plain steel disc across a coreless stator",
         "one_disc_coreless": "one magnet disc beside a coreless stator",
     }[design.spec.rotor.topology]
 
