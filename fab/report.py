@@ -188,6 +188,21 @@ def electrical_json(design: Design) -> dict:
         "efficiency": _r(rated.efficiency),
         "rated_current_density_a_mm2": _r(rated.current_density_a_mm2, 3),
         "rated_coil_temperature_c": None if rated.temperature_over_cap else _r(rated.coil_temperature_c, 1),
+        "magnet_temperature_c": _r(pr.magnet_temperature_c, 1),
+        "open_circuit_line_rms_warm_v": _r(pr.open_circuit_line_rms_warm_v, 3),
+        "cut_in_warm_rpm": _r(pr.cut_in_warm_rpm, 1),
+        # at rated_rpm over the grade's Br range, strongest magnets cold (ambient) to weakest warm
+        "open_circuit_line_rms_band_v": [
+            _r(v, 3) for v in pr.open_circuit_band_v(pr.rated_rpm, pr.ambient_c, pr.magnet_temperature_c)
+        ],
+        "rated_losses_w": {
+            "copper_w": _r(rated.copper_loss_w, 3),
+            "rectifier_w": _r(rated.rectifier_loss_w, 3),
+            "stationary_steel_w": _r(rated.steel_loss_w, 3),
+            "conductor_eddy_w": _r(rated.conductor_eddy_w, 3),
+            "mechanical_w": _r(rated.mechanical_w, 3),
+        },
+        "rated_shaft_power_w": _r(rated.shaft_power_w, 2),
         "coil_temperature_cap_c": TEMPERATURE_CAP_C,
         "curve": [
             {
@@ -201,6 +216,9 @@ def electrical_json(design: Design) -> dict:
                 "delta_loop_loss_w": _r(op.loop_loss_w, 3),  # part of copper_loss_w
                 "stationary_steel_w": _r(op.steel_loss_w, 3),
                 "shaft_power_w": _r(op.shaft_power_w, 3),
+                "conductor_eddy_w": _r(op.conductor_eddy_w, 4),
+                "mechanical_w": _r(op.mechanical_w, 4),
+                "magnet_temperature_c": _r(op.magnet_temperature_c, 1),
                 "phase_current_rms_a": _r(op.phase_current_rms_a, 4),
                 "current_density_a_mm2": _r(op.current_density_a_mm2, 3),
                 # null where the steady state lies past the cap: no figure is claimed there
@@ -398,8 +416,15 @@ def _output_text(design: Design) -> str:
     head = [
         f"Output into {what}",
         f"Open circuit at {ta.rated_rpm:g} rpm: {pr.open_circuit_phase_rms_v:.1f} V phase, "
-        f"{pr.open_circuit_line_rms_v:.1f} V line (rms), THD {pr.line_thd:.1%}; "
+        f"{pr.open_circuit_line_rms_v:.1f} V line (rms, magnets at 20 °C), THD {pr.line_thd:.1%}; "
         f"at {ta.max_rpm:g} rpm {pr.open_circuit_line_rms_at_max_v:.0f} V line",
+        f"Magnets at {pr.magnet_temperature_c:.0f} °C under rated load (rough estimate): "
+        f"{pr.open_circuit_line_rms_warm_v:.1f} V line at {ta.rated_rpm:g} rpm"
+        + (f", cut-in {pr.cut_in_warm_rpm:.0f} rpm" if ta.kind == "battery" else "")
+        + "; over the grade's Br range, cold to warm: "
+        + "{:.1f}–{:.1f} V".format(
+            *pr.open_circuit_band_v(pr.rated_rpm, pr.ambient_c, pr.magnet_temperature_c)
+        ),
     ]
     ac = ta.kind == "ac_line"
     plate = any(op.steel_loss_w > 0 for op in pr.curve)  # a stationary steel plate
@@ -411,6 +436,8 @@ def _output_text(design: Design) -> str:
         "copper_w",
         *([] if ac else ["rectifier_w"]),  # a line load has no bridge
         *(["steel_w"] if plate else []),
+        "eddy_w",
+        "mech_w",
         "shaft_w",
         "efficiency",
         "A/mm2",
@@ -425,6 +452,8 @@ def _output_text(design: Design) -> str:
             op.copper_loss_w,
             *([] if ac else [op.rectifier_loss_w]),
             *([op.steel_loss_w] if plate else []),
+            op.conductor_eddy_w,
+            op.mechanical_w,
             op.shaft_power_w,
             op.efficiency,
             op.current_density_a_mm2,
@@ -441,8 +470,12 @@ def _output_text(design: Design) -> str:
     if plate:
         note += (
             "\nsteel_w: eddy and hysteresis loss of the stationary steel plate under the moving "
-            "magnets (limiting theory, a rough estimate); efficiency is output over shaft_w."
+            "magnets (limiting theory, a rough estimate)."
         )
+    note += (
+        "\neddy_w: eddy currents in the wire itself; mech_w: bearings and windage (rough); "
+        "efficiency is output over shaft_w, the power the shaft must bring."
+    )
     return "\n".join(head) + "\n" + table(headings, rows) + note
 
 
@@ -576,6 +609,8 @@ def balance_text(rb, name: str) -> str:
             f"couple unbalance {rb.couple_unbalance_gmm_mm:.0f} g·mm²"
         )
     for d in rb.discs:
+        if not d.assignment:  # a plain disc: no magnets to place
+            continue
         out.append("")
         rows = [[a.pocket, a.magnet, a.face, a.mass_g] for a in d.assignment]
         title = f"Disc {d.disc}: pocket → magnet (face up with the disc lying magnet side up)"

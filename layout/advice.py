@@ -25,6 +25,7 @@ from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 
 from layout.design import Design, compute_design
+from layout.forces import STEEL_DISC_NAME
 from layout.materials import DISC_MATERIALS, MAGNET_GRADES
 from layout.spec import DesignError, Spec, with_values
 
@@ -100,6 +101,11 @@ def _magnet_limit_c(spec: Spec) -> float:
     return MAGNET_GRADES[mg.grade].max_temperature_c if mg.grade else 80.0
 
 
+def _softening_c(spec: Spec) -> float:
+    """Where the rotor discs' material starts to creep; a metal's far above any coil."""
+    return DISC_MATERIALS[spec.rotor.disc_material].softening_c or 1000.0
+
+
 def _temperature(op) -> str:
     return (
         f"over {op.coil_temperature_c:g} °C" if op.temperature_over_cap else f"{op.coil_temperature_c:.0f} °C"
@@ -115,8 +121,8 @@ FIGURES: dict[str, _Figure] = {
         "°C", lambda d: _rated(d).coil_temperature_c, -1, 1.0, "coils ", lambda d: _temperature(_rated(d))
     ),
     "magnet.temperature": _Figure(
-        "K", lambda d: _rated(d).coil_temperature_c - _magnet_limit_c(d.spec), -1, 1.0, "",
-        lambda d: f"coils {_temperature(_rated(d))} by magnets rated to {_magnet_limit_c(d.spec):g} °C",
+        "K", lambda d: _rated(d).magnet_temperature_c - _magnet_limit_c(d.spec), -1, 1.0, "",
+        lambda d: f"magnets {_rated(d).magnet_temperature_c:.0f} °C, rated to {_magnet_limit_c(d.spec):g} °C",
     ),
     "output.low_efficiency": _Figure(
         "%", lambda d: 100 * _rated(d).efficiency, +1, 1.0, "efficiency ",
@@ -133,6 +139,10 @@ FIGURES: dict[str, _Figure] = {
     "steel.stationary_loss": _Figure(
         "W", lambda d: _rated(d).steel_loss_w, -1, 1.0, "plate loss ",
         lambda d: f"{_rated(d).steel_loss_w:.0f} W",
+    ),
+    "disc.softening": _Figure(
+        "K", lambda d: _rated(d).magnet_temperature_c - _softening_c(d.spec), -1, 1.0, "",
+        lambda d: f"discs {_rated(d).magnet_temperature_c:.0f} °C, soften at {_softening_c(d.spec):g} °C",
     ),
     "steel.saturation": _Figure(
         "T", lambda d: d.forces.steel_peak_b_t or 0.0, -1, 0.01, "steel ",
@@ -211,14 +221,23 @@ def _thicker_steel(design: Design) -> Iterable[tuple[str, object]]:
     f = design.forces
     if f.steel_needed_mm is None:
         return
-    key = "rotor.disc_thickness_mm" if f.steel_plate == "rotor disc" else "rotor.stator_plate_thickness_mm"
+    key = {"rotor disc": "rotor.disc_thickness_mm", STEEL_DISC_NAME: "rotor.steel_disc_thickness_mm"}.get(
+        f.steel_plate, "rotor.stator_plate_thickness_mm"
+    )
     yield key, _up(f.steel_needed_mm, 1.0)
     yield key, _up(f.steel_needed_mm, 1.0) + 2.0
 
 
 def _no_standing_steel(design: Design) -> Iterable[tuple[str, object]]:
     """Steel that turns with the magnets, or none, in place of the stationary plate."""
-    if design.spec.rotor.topology == "one_disc_steel_stator":
+    ro = design.spec.rotor
+    if ro.topology == "one_disc_steel_stator":
+        note = "the same magnets; a plain steel disc on the shaft in place of the plate"
+        plate = (
+            ("rotor.stator_plate_thickness_mm", None),
+            ("rotor.steel_disc_thickness_mm", ro.stator_plate_thickness_mm),
+        )
+        yield "rotor.topology", "one_disc_steel_disc", plate, note
         note = f"a second disc of {design.spec.magnets.count} magnets in place of the plate"
         yield "rotor.topology", "two_discs", (("rotor.stator_plate_thickness_mm", None),), note
     yield "stator.thickness_mm", _up(design.spec.stator.thickness_mm, 1.25)
@@ -233,6 +252,7 @@ CANDIDATES: dict[str, tuple[Callable[[Design], Iterable[tuple[str, object]]], ..
     "disc.hoop_stress": (_stronger_disc,),
     "steel.saturation": (_thicker_steel,),
     "steel.stationary_loss": (_no_standing_steel,),
+    "disc.softening": (_stronger_disc, _more_copper),
 }
 
 

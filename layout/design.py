@@ -10,6 +10,7 @@ from layout.bill import Bill, materials_bill
 from layout.emf import CoilLinkage, FluxMap, coil_linkage, flux_map, phase_emf
 from layout.forces import Forces, compute_forces
 from layout.geometry import Geometry, resolve_geometry
+from layout.losses import rotor_mass_kg
 from layout.model import Prediction, predict
 from layout.pairs import balanced_alternatives
 from layout.safety import DELTA_LOOP_SHARE, Warning, collect_warnings
@@ -86,7 +87,13 @@ def winding_layout(spec: Spec) -> Layout:
 
 
 def _as_star(
-    spec: Spec, geo: Geometry, lay: Layout, link: CoilLinkage, pred: Prediction, plate: PlateFlux | None
+    spec: Spec,
+    geo: Geometry,
+    lay: Layout,
+    link: CoilLinkage,
+    pred: Prediction,
+    plate: PlateFlux | None,
+    **extra,
 ) -> Prediction | None:
     """The same machine connected in star, where its delta loses enough to a circulating
     current to be warned of (the field and coils are unchanged: only EMF and output re-run)."""
@@ -95,7 +102,7 @@ def _as_star(
         return None
     try:
         star = with_value(spec, "connection.kind", "star")
-        return predict(star, geo, lay, phase_emf(link, lay, "star"), plate, rated_only=True)
+        return predict(star, geo, lay, phase_emf(link, lay, "star"), plate, rated_only=True, **extra)
     except DesignError:
         return None
 
@@ -108,9 +115,12 @@ def compute_design(spec: Spec) -> Design:
     link = coil_linkage(geo, fmap, spec.magnets.count)
     emf = phase_emf(link, lay, spec.connection.kind)
     plate = plate_flux(spec, geo, fmap.sources)
-    pred = predict(spec, geo, lay, emf, plate)
     forces = compute_forces(spec, geo, fmap.sources, fmap.peak_bz_t)
-    warnings = collect_warnings(spec, lay, pred, forces, _as_star(spec, geo, lay, link, pred, plate))
+    losses = {"fmap": fmap, "rotor_mass_kg": rotor_mass_kg(spec, forces)}
+    pred = predict(spec, geo, lay, emf, plate, **losses)
+    warnings = collect_warnings(
+        spec, lay, pred, forces, _as_star(spec, geo, lay, link, pred, plate, **losses)
+    )
     return Design(
         spec=spec,
         layout=lay,

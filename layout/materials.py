@@ -16,6 +16,7 @@ class MagnetGrade:
     max_temperature_c: float  # maximum working temperature of the grade
     br_temp_coeff_per_k: float  # reversible temperature coefficient of Br
     density_g_cm3: float
+    br_range_t: tuple[float, float] = (0.0, 0.0)  # the grade's published Br span at 20 °C
 
 
 # Sintered NdFeB: Br ranges per IEC 60404-8-1 grade classes and MMPA Standard 0100; the
@@ -49,9 +50,9 @@ def _build_grades() -> dict[str, MagnetGrade]:
     for base, (lo, hi) in _NDFEB_BR_RANGE_T.items():
         for suffix, t_max in _NDFEB_TEMPERATURE_CLASS_C.items():
             name = base + suffix
-            grades[name] = MagnetGrade(name, (lo + hi) / 2, t_max, -0.0012, NDFEB_DENSITY_G_CM3)
-    for name, br in (("Y30", 0.39), ("Y35", 0.42)):
-        grades[name] = MagnetGrade(name, br, 250.0, -0.0020, FERRITE_DENSITY_G_CM3)
+            grades[name] = MagnetGrade(name, (lo + hi) / 2, t_max, -0.0012, NDFEB_DENSITY_G_CM3, (lo, hi))
+    for name, (lo, hi) in (("Y30", (0.38, 0.40)), ("Y35", (0.40, 0.44))):
+        grades[name] = MagnetGrade(name, (lo + hi) / 2, 250.0, -0.0020, FERRITE_DENSITY_G_CM3, (lo, hi))
     return grades
 
 

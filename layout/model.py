@@ -12,11 +12,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from layout.circuit import BridgeRating, Load, bridge_rating, simulate_rectifier
-from layout.emf import PhaseEmf, rms, thd
+from layout.emf import FluxMap, PhaseEmf, rms, thd
+from layout.forces import disc_outer_radius_mm
 from layout.geometry import Geometry
-from layout.materials import COPPER_DENSITY_G_CM3
+from layout.losses import bearing_w, conductor_eddy_w, windage_w
+from layout.materials import COPPER_DENSITY_G_CM3, MAGNET_GRADES
+from layout.rotor import rotor_discs
 from layout.spec import Spec, unit_slip_hint
 from layout.steel import PlateFlux
+from layout.thermal import stator_heat_paths
 from layout.winding import Layout, electrical_hz
 from layout.wire import (
     Wire,
@@ -26,17 +30,13 @@ from layout.wire import (
     wheeler_inductance_h,
 )
 
-# Heat leaves the stator's two faces; a rotor turning a few mm away stirs the air. A film
-# coefficient of about 20 W/(m²·K) is a rough figure for that (from memory); the estimate
-# is meant to flag trouble, not to replace a temperature test.
-FACE_HEAT_TRANSFER_W_M2K = 20.0
 # Above the highest thermal class of enamelled wire (220 °C, IEC 60085) the insulation, the
 # binder and this steady-state estimate have all failed; no temperature is claimed past it.
 TEMPERATURE_CAP_C = 250.0
 TEMPERATURE_TOL_K = 0.05  # the coil temperature and its resistance agree to this
 
 
-def settle_temperature(loss_w, ambient_c: float, conductance_w_k: float, n: int):
+def settle_temperature(loss_w, ambient_c: float, conductance_w_k, n: int):
     """Coil temperatures (°C) where the copper loss at each point's own resistance is the heat
     that raises it there: T = T_amb + P(T)/G, solved per operating point.
 
@@ -46,7 +46,8 @@ def settle_temperature(loss_w, ambient_c: float, conductance_w_k: float, n: int)
     so cannot oscillate as plain substitution does when the loss rises steeply with R.
     Returns (temps_c, over_cap): points whose root lies above the cap are held at the cap.
     """
-    f_of = lambda idx, t: ambient_c + loss_w(idx, t) / conductance_w_k - t  # noqa: E731
+    g = np.broadcast_to(np.asarray(conductance_w_k, dtype=float), (n,))
+    f_of = lambda idx, t: ambient_c + loss_w(idx, t) / g[idx] - t  # noqa: E731
     idx = np.arange(n)
     lo = np.full(n, float(ambient_c))
     f_lo = f_of(idx, lo)
@@ -89,6 +90,24 @@ def settle_temperature(loss_w, ambient_c: float, conductance_w_k: float, n: int)
     return temps, over
 
 
+def magnet_br_coefficient_per_k(spec: Spec) -> float:
+    """Reversible temperature coefficient of Br (1/K): the grade's; for a bare remanence_t,
+    NdFeB's above 0.8 T and hard ferrite's below (layout.materials)."""
+    mg = spec.magnets
+    if mg.grade:
+        return MAGNET_GRADES[mg.grade].br_temp_coeff_per_k
+    return MAGNET_GRADES["N35" if mg.remanence_t >= 0.8 else "Y30"].br_temp_coeff_per_k
+
+
+def magnet_br_span(spec: Spec) -> tuple[float, float]:
+    """The grade's published Br range over its typical value; (1, 1) for a bare remanence_t."""
+    mg = spec.magnets
+    if not mg.grade or mg.remanence_t is not None:
+        return (1.0, 1.0)
+    g = MAGNET_GRADES[mg.grade]
+    return (g.br_range_t[0] / g.remanence_t, g.br_range_t[1] / g.remanence_t)
+
+
 CURVE_POINTS = 24
 _CONNECTION = {"star": "star", "delta": "delta", "single_phase": "single"}
 
@@ -110,6 +129,9 @@ class OperatingPoint:
     loop_loss_w: float = 0.0  # part of copper_loss_w: current circulating round a closed delta
     steel_loss_w: float = 0.0  # eddy and hysteresis loss of a stationary steel plate
     shaft_power_w: float = 0.0  # mechanical input: output plus every loss
+    magnet_temperature_c: float = 20.0  # the magnets' steady temperature (layout.thermal)
+    conductor_eddy_w: float = 0.0  # eddy currents in the wire itself (layout.losses)
+    mechanical_w: float = 0.0  # bearings and windage
 
     @property
     def temperature_words(self) -> str:
@@ -147,6 +169,37 @@ class Prediction:
     rated: OperatingPoint
     curve: tuple[OperatingPoint, ...]
     electrical_hz_at_rated: float
+    br_per_k: float = 0.0  # the magnets' reversible Br coefficient, 1/K
+    br_span: tuple[float, float] = (1.0, 1.0)  # the grade's Br range over its typical value
+    ambient_c: float = 20.0
+
+    def open_circuit_line_rms_at(self, rpm: float, magnet_c: float = 20.0) -> float:
+        """Open-circuit line voltage (V rms) at `rpm` with the magnets at `magnet_c`, typical Br:
+        proportional to speed and to Br, which falls by br_per_k per K over 20 °C."""
+        return self.open_circuit_line_rms_v * rpm / self.rated_rpm * (1 + self.br_per_k * (magnet_c - 20.0))
+
+    @property
+    def magnet_temperature_c(self) -> float:
+        """The magnets' temperature at the rated point (layout.thermal)."""
+        return self.rated.magnet_temperature_c
+
+    @property
+    def open_circuit_line_rms_warm_v(self) -> float:
+        """At rated speed with the magnets as warm as the rated load makes them."""
+        return self.open_circuit_line_rms_at(self.rated_rpm, self.magnet_temperature_c)
+
+    @property
+    def cut_in_warm_rpm(self) -> float:
+        """The cut-in with the magnets as warm as the rated load makes them."""
+        return self.cut_in_rpm / (1 + self.br_per_k * (self.magnet_temperature_c - 20.0))
+
+    def open_circuit_band_v(self, rpm: float, cold_c: float, warm_c: float) -> tuple[float, float]:
+        """Open-circuit line voltage (V rms) at `rpm` over the grade's Br range, from its
+        weakest magnets at `warm_c` to its strongest at `cold_c`."""
+        lo, hi = self.br_span
+        return self.open_circuit_line_rms_at(rpm, warm_c) * lo, self.open_circuit_line_rms_at(
+            rpm, cold_c
+        ) * hi
 
     def phase_emf_v(self, rpm: float) -> np.ndarray:
         """Open-circuit EMF of each phase over one electrical period at `rpm`."""
@@ -206,11 +259,6 @@ def _copper(spec: Spec, geo: Geometry, layout: Layout, turns: int):
 def _rectified_peak_per_turn(emf: PhaseEmf) -> float:
     """Peak of the bridge's open-circuit output per turn per rad/s: the largest line voltage."""
     return float(np.abs(emf.line_v).max())
-
-
-def _cooling_area_m2(geo: Geometry, spec: Spec) -> float:
-    r0, r1 = geo.coil.r_min_mm, geo.coil.r_max_mm
-    return 2 * math.pi * (r1**2 - r0**2) * 1e-6
 
 
 def _curve_rpms(spec: Spec, cut_in: float) -> np.ndarray:
@@ -299,13 +347,18 @@ def predict(
     emf: PhaseEmf,
     plate: PlateFlux | None = None,
     rated_only: bool = False,
+    fmap: FluxMap | None = None,
+    rotor_mass_kg: float = 0.0,
 ) -> Prediction:
     """Size the winding for the target and predict its output over the speed range.
 
     `plate`: the flux a stationary steel plate carries (layout.steel), whose eddy and
     hysteresis loss drags on the rotor and heats the stator; None where no steel stands still.
     `rated_only`: the curve holds the rated point alone (a quick comparison).
+    `fmap` gives the wire's own eddy loss (layout.losses) and `rotor_mass_kg` the bearings';
+    without them those losses are left out.
     """
+    extra = (fmap, rotor_mass_kg)
     ta = spec.target
     vf = ta.diode_drop_v
     per_turn_peak = _rectified_peak_per_turn(emf)
@@ -314,28 +367,31 @@ def predict(
         v_cut = ta.battery_v + 2 * vf
         turns = given or max(1, round(v_cut / (per_turn_peak * _omega(ta.cut_in_rpm))))
         load = Load("battery", ta.battery_resistance_ohm, ta.battery_v)
-        return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only)
+        return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only, extra)
     # A loaded target must hold with the coils warm: size at ambient, then again at the
     # coil temperature the rated point reaches, until the rated point meets the target.
     size_c = ta.ambient_c
+    alpha = magnet_br_coefficient_per_k(spec)
+    size_k = 1 + alpha * (ta.ambient_c - 20.0)  # the magnets' Br ratio to size with
     for _ in range(4):
         if ta.kind == "dc":
             v_cut = ta.voltage_v + 2 * vf
-            turns = given or _turns_for_dc(spec, geo, layout, emf, per_turn_peak, size_c)
+            turns = given or _turns_for_dc(spec, geo, layout, emf, per_turn_peak, size_c, size_k)
             load = Load("resistor", ta.voltage_v / ta.rated_current_a)
         else:
             v_cut = ta.voltage_v * math.sqrt(2)
-            turns = given or _turns_for_ac(spec, geo, layout, emf, size_c)
+            turns = given or _turns_for_ac(spec, geo, layout, emf, size_c, size_k)
             load = None
-        pred = _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only)
+        pred = _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only, extra)
         if given or pred.rated.dc_voltage_v >= ta.voltage_v * (1 - 1e-9):
             break
         size_c = pred.rated.coil_temperature_c
+        size_k = 1 + alpha * (pred.rated.magnet_temperature_c - 20.0)
     return pred
 
 
 def _evaluate(
-    spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only=False
+    spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only=False, extra=(None, 0.0)
 ) -> Prediction:
     """Wire, R, L and the output curve for a given number of turns."""
     ta = spec.target
@@ -361,22 +417,45 @@ def _evaluate(
     cut_in = v_cut / (per_turn_peak * turns) * 60 / (2 * math.pi)
     rpms = np.array([float(ta.rated_rpm)]) if rated_only else _curve_rpms(spec, cut_in)
     ambient = ta.ambient_c
-    area = _cooling_area_m2(geo, spec)
     n_coils = len(layout.coils)
     phases = layout.phases
     line_rms_per = float(rms(emf.line_v[0])) * turns
-    conductance = FACE_HEAT_TRANSFER_W_M2K * area
+    paths = stator_heat_paths(spec, geo, rpms)
+    conductance = paths.conductance_w_k
+    alpha = magnet_br_coefficient_per_k(spec)
+
+    def warm(idx, t):
+        """Turns × the magnets' Br ratio at the temperature the coils at `t` give them: the
+        EMF per turn is proportional to Br (a linear field), falling by α per K."""
+        t_mag = ambient + paths.magnet_rise_k(np.asarray(t) - ambient, idx)
+        return turns * (1 + alpha * (t_mag - 20.0))
+
     # The plate is cast against the stator: its loss is taken as the stator's heat too
     # (pessimistic, as some leaves from the plate's back).
     steel_w = plate.loss_w(_omega(rpms) * layout.pole_pairs) if plate is not None else np.zeros(len(rpms))
+    fmap, rotor_kg = extra
+    coil = geo.coil
+    r_disc = disc_outer_radius_mm(spec)
+    mech_w = windage_w(rpms, r_disc, len(rotor_discs(spec))) + bearing_w(
+        rpms, rotor_kg, spec.rotor.bore_diameter_mm
+    )
+
+    def eddy(idx, t):
+        """The wire's own eddy loss at the coil temperature, ∝ B², so ∝ the warm Br ratio²."""
+        if fmap is None:
+            return np.zeros(len(np.atleast_1d(idx)))
+        cold = conductor_eddy_w(fmap, coil.r_min_mm, coil.r_max_mm, wire, turns, n_coils, rpms[idx], t)
+        return cold * (warm(idx, t) / turns) ** 2
+
     if load is not None:
 
         def loss(idx, t):
-            sim = _simulate(spec, layout, emf, turns, r_phase, l_phase, rpms[idx], load, t)
-            return sim.copper_loss_w + steel_w[idx]
+            sim = _simulate(spec, layout, emf, warm(idx, t), r_phase, l_phase, rpms[idx], load, t)
+            return sim.copper_loss_w + steel_w[idx] + eddy(idx, t)
 
         temps, over = settle_temperature(loss, ambient, conductance, len(rpms))
-        res = _simulate(spec, layout, emf, turns, r_phase, l_phase, rpms, load, temps)
+        everywhere = np.arange(len(rpms))
+        res = _simulate(spec, layout, emf, warm(everywhere, temps), r_phase, l_phase, rpms, load, temps)
         dc_v, dc_i, dc_p = res.dc_voltage_v, res.dc_current_a, res.dc_power_w
         cu_w, rect_w = res.copper_loss_w, res.rectifier_loss_w
         i_ph = res.phase_current_rms_a
@@ -388,11 +467,12 @@ def _evaluate(
 
         def ac_line(idx, t):
             r_hot = r_phase * copper_resistivity(np.asarray(t)) / copper_resistivity(20.0)
-            _e, i, v, i0 = _ac_line_output(spec, layout, emf, turns, r_hot, l_phase, rpms[idx], load_ohm)
+            n_warm = warm(idx, t)
+            _e, i, v, i0 = _ac_line_output(spec, layout, emf, n_warm, r_hot, l_phase, rpms[idx], load_ohm)
             return i, v, phases * (i**2 + i0**2) * r_hot, i0
 
         def heat(idx, t):
-            return ac_line(idx, t)[2] + steel_w[idx]
+            return ac_line(idx, t)[2] + steel_w[idx] + eddy(idx, t)
 
         temps, over = settle_temperature(heat, ambient, conductance, len(rpms))
         i_load, v_ph, cu_w, i_loop = ac_line(np.arange(len(rpms)), temps)
@@ -403,8 +483,11 @@ def _evaluate(
         rect_w = np.zeros(len(rpms))
         src = dc_p + cu_w
     r_hot = r_phase * copper_resistivity(temps) / copper_resistivity(20.0)
-    loop_w = phases * _loop_current_rms(spec, layout, emf, turns, r_hot, l_phase, rpms) ** 2 * r_hot
-    shaft = src + steel_w
+    i_loop_rms = _loop_current_rms(spec, layout, emf, warm(np.arange(len(rpms)), temps), r_hot, l_phase, rpms)
+    loop_w = phases * i_loop_rms**2 * r_hot
+    magnet_c = ambient + paths.magnet_rise_k(temps - ambient)
+    eddy_w = eddy(np.arange(len(rpms)), temps)
+    shaft = src + steel_w + eddy_w + mech_w
     eff = np.where(shaft > 1e-9, dc_p / np.maximum(shaft, 1e-12), 0.0)
     density = i_ph / layout.parallel_paths / wire.copper_mm2
     curve = tuple(
@@ -424,6 +507,9 @@ def _evaluate(
             loop_loss_w=float(loop_w[k]),
             steel_loss_w=float(steel_w[k]),
             shaft_power_w=float(shaft[k]),
+            magnet_temperature_c=float(magnet_c[k]),
+            conductor_eddy_w=float(eddy_w[k]),
+            mechanical_w=float(mech_w[k]),
         )
         for k in range(len(rpms))
     )
@@ -458,10 +544,13 @@ def _evaluate(
         rated=rated,
         curve=curve,
         electrical_hz_at_rated=float(electrical_hz(layout.pole_pairs, ta.rated_rpm)),
+        br_per_k=alpha,
+        br_span=magnet_br_span(spec),
+        ambient_c=ambient,
     )
 
 
-def _turns_for_dc(spec, geo, layout, emf, per_turn_peak, temp_c: float) -> int:
+def _turns_for_dc(spec, geo, layout, emf, per_turn_peak, temp_c: float, warm: float = 1.0) -> int:
     """Fewest turns that deliver target.voltage_v at rated_current_a and rated_rpm."""
     ta = spec.target
     load = Load("resistor", ta.voltage_v / ta.rated_current_a)
@@ -470,7 +559,7 @@ def _turns_for_dc(spec, geo, layout, emf, per_turn_peak, temp_c: float) -> int:
         cu = _copper(spec, geo, layout, n)
         if cu is None:
             return None
-        res = _simulate(spec, layout, emf, n, cu[3], cu[4], np.array([ta.rated_rpm]), load, [temp_c])
+        res = _simulate(spec, layout, emf, n * warm, cu[3], cu[4], np.array([ta.rated_rpm]), load, [temp_c])
         return float(res.dc_voltage_v[0])
 
     return _fewest_turns(
@@ -478,7 +567,7 @@ def _turns_for_dc(spec, geo, layout, emf, per_turn_peak, temp_c: float) -> int:
     )
 
 
-def _turns_for_ac(spec, geo, layout, emf, temp_c: float) -> int:
+def _turns_for_ac(spec, geo, layout, emf, temp_c: float, warm: float = 1.0) -> int:
     ta = spec.target
     star = spec.connection.kind == "star"
     v_ph = ta.voltage_v / math.sqrt(3) if star else ta.voltage_v
@@ -489,7 +578,7 @@ def _turns_for_ac(spec, geo, layout, emf, temp_c: float) -> int:
         if cu is None:
             return None
         r_hot = cu[3] * copper_resistivity(temp_c) / copper_resistivity(20.0)
-        _, _, v, _ = _ac_line_output(spec, layout, emf, n, r_hot, cu[4], ta.rated_rpm, v_ph / i_ph)
+        _, _, v, _ = _ac_line_output(spec, layout, emf, n * warm, r_hot, cu[4], ta.rated_rpm, v_ph / i_ph)
         return float(v[0]) * (ta.voltage_v / v_ph)
 
     e_turn = float(rms(emf.phase_v[0])) * float(_omega(ta.rated_rpm))

@@ -20,6 +20,7 @@ ELV_DC_V = 120.0
 CURRENT_DENSITY_STILL_AIR_A_MM2 = 5.0  # hand-wound coils in still air: 3–5 A/mm² (common practice)
 CURRENT_DENSITY_CAST_A_MM2 = 4.0  # coils cast in resin shed heat worse (common practice)
 STEEL_LOSS_SHARE = 0.1  # a stationary plate's loss worth a warning, share of shaft input (our choice)
+PRINTED_MARGIN_K = 10.0  # a printed disc should stay this far below its softening point (our choice)
 DELTA_LOOP_SHARE = 0.03  # a delta's circulating loss worth a warning, share of output (our choice)
 PACEMAKER_DISTANCE_MM = 150  # keep strong magnets this far from implants (from memory)
 DEFER = "follow local codes and have a licensed electrician check the installation"
@@ -105,6 +106,15 @@ def collect_warnings(
             f"a safety factor of {forces.hoop_safety_factor:.1f} on {mat.strength_mpa:g} MPa "
             f"(want {HOOP_SAFETY_FACTOR:g}); a burst disc throws fragments.",
         )
+    plain = forces.steel_disc_hoop_safety_factor
+    if plain is not None and plain < HOOP_SAFETY_FACTOR:
+        add(
+            "disc.hoop_stress",
+            "danger",
+            f"The plain steel disc reaches {forces.steel_disc_hoop_stress_mpa:.1f} MPa at "
+            f"{ta.max_rpm:g} rpm, a safety factor of {plain:.1f} (want {HOOP_SAFETY_FACTOR:g}); "
+            "a burst disc throws fragments.",
+        )
     binder_max = STATOR_BINDERS_MAX_C[spec.stator.binder]
     rated = pred.rated
     top = pred.curve[-1]
@@ -138,13 +148,28 @@ def collect_warnings(
     grade_max = spec.magnets.max_temperature_c or (
         MAGNET_GRADES[spec.magnets.grade].max_temperature_c if spec.magnets.grade else 80.0
     )
-    if hot.coil_temperature_c > grade_max:
+    if hot.magnet_temperature_c > grade_max:
         add(
             "magnet.temperature",
             "warning",
-            f"Coils at {hot.temperature_words} sit a few mm from magnets rated to "
-            f"{grade_max:g} °C: they can lose strength for good.",
+            f"The magnets reach about {hot.magnet_temperature_c:.0f} °C at {hot.rpm:g} rpm (rough "
+            f"estimate; coils {hot.temperature_words}), over the {grade_max:g} °C their grade "
+            "takes: they can lose strength for good.",
         )
+    disc = DISC_MATERIALS[spec.rotor.disc_material]
+    if disc.printed and disc.softening_c is not None:
+        # The disc holds the magnets and faces the stator across the gap: it runs about as warm
+        # as they do, and its face nearer the coils warmer still.
+        near = max(hot.magnet_temperature_c, (hot.magnet_temperature_c + hot.coil_temperature_c) / 2)
+        if near > disc.softening_c - PRINTED_MARGIN_K:
+            add(
+                "disc.softening",
+                "warning",
+                f"The printed {disc.name} discs run at about {hot.magnet_temperature_c:.0f} °C beside coils "
+                f"at {hot.temperature_words}, near or over the {disc.softening_c:g} °C where {disc.name} "
+                "creeps: magnets can work loose and the gap close. Keep the machine out of the sun and "
+                "check the gap after the first long runs.",
+            )
     add(
         "magnet.pinch",
         "danger",

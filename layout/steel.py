@@ -1,7 +1,8 @@
 """Losses in a stationary steel plate under the moving magnets (one_disc_steel_stator).
 
 The plate behind a one-disc stator stands still while the magnets' field sweeps its face at
-the electrical frequency. The flux of each pole enters the face and turns along the plate,
+the electrical frequency (a plain steel disc that turns with the magnets, `one_disc_steel_disc`,
+sees a steady field and loses nothing). The flux of each pole enters the face and turns along the plate,
 so the flux carried along the plate, per metre of radius, swings between ±Φ₀ once per
 electrical period; in solid steel that swing drives eddy currents that crowd it towards the
 face. Their loss is estimated with the limiting non-linear theory of eddy currents in solid

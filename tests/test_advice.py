@@ -5,7 +5,7 @@ from __future__ import annotations
 import json
 
 import pytest
-from demos import DESIGNS, design, variant
+from demos import DESIGNS, PLATE, design, variant
 
 from fab.fit import check_parts
 from layout.advice import CANDIDATES, FIGURES, MAX_OUTPUT_LOSS, MAX_SUGGESTIONS, suggest
@@ -14,7 +14,8 @@ from layout.spec import DesignError, with_value, with_values
 
 # Designs of our own that raise each warning with changes to try.
 FLAGGED = [
-    ("hilltop",),  # current density, low efficiency into a battery
+    ("hilltop",),  # hot coils, low efficiency into a battery
+    ("hilltop", *PLATE),  # and the loss of a stationary steel plate
     ("hilltop", ("target.battery_v", 12.0), ("target.cut_in_rpm", 100.0)),  # hot coils, magnets
     ("millrace", ("rotor.disc_material", "pla"), ("target.max_rpm", 10000.0)),  # hoop stress
     ("millrace", ("rotor.disc_thickness_mm", 3.0)),  # saturated steel disc

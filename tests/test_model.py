@@ -173,6 +173,7 @@ def test_energy_balance_at_every_curve_point(name):
     for op in design(name).prediction.curve:
         assert 0.0 <= op.efficiency <= 1.0
         losses = op.dc_power_w + op.copper_loss_w + op.rectifier_loss_w + op.steel_loss_w
+        losses += op.conductor_eddy_w + op.mechanical_w
         assert op.shaft_power_w == pytest.approx(losses, rel=0.01, abs=1e-6)
         if op.dc_power_w < 1e-6:  # below cut-in: rounding-level currents only
             assert op.efficiency == pytest.approx(0.0, abs=1e-6)
@@ -327,11 +328,12 @@ def test_ac_line_target_is_met_with_the_fewest_turns():
     # One turn fewer: the loaded line voltage falls short.
     cu = model._copper(spec, d.geometry, d.layout, pr.turns_per_coil - 1)
     v_ph_target = 40.0 / math.sqrt(3)
+    warm = 1 + model.magnet_br_coefficient_per_k(spec) * (pr.rated.magnet_temperature_c - 20)
     _, _, v_ph, _ = model._ac_line_output(
         spec,
         d.layout,
         pr.emf,
-        pr.turns_per_coil - 1,
+        (pr.turns_per_coil - 1) * warm,  # the magnets as warm as at the rated point
         cu[3] * model.copper_resistivity(pr.rated.coil_temperature_c) / model.copper_resistivity(20.0),
         cu[4],
         300.0,
@@ -343,26 +345,27 @@ def test_ac_line_target_is_met_with_the_fewest_turns():
 @pytest.mark.parametrize("demo", DEMOS)
 def test_coil_temperature_is_a_converged_fixed_point(demo):
     from layout.circuit import Load, simulate_rectifier
-    from layout.model import (
-        _CONNECTION,
-        FACE_HEAT_TRANSFER_W_M2K,
-        TEMPERATURE_CAP_C,
-        _cooling_area_m2,
-    )
+    from layout.model import _CONNECTION, TEMPERATURE_CAP_C, magnet_br_coefficient_per_k
+    from layout.thermal import stator_heat_paths
     from layout.wire import copper_resistivity
 
     d = design(demo)
     spec, pr = d.spec, d.prediction
     ta = spec.target
-    g = FACE_HEAT_TRANSFER_W_M2K * _cooling_area_m2(d.geometry, spec)
+    alpha = magnet_br_coefficient_per_k(spec)
     for op in pr.curve:
+        g = float(stator_heat_paths(spec, d.geometry, [op.rpm]).conductance_w_k[0])
         if op.temperature_over_cap:
             assert op.coil_temperature_c == TEMPERATURE_CAP_C
-            assert ta.ambient_c + (op.copper_loss_w + op.steel_loss_w) / g > TEMPERATURE_CAP_C
+            assert (
+                ta.ambient_c + (op.copper_loss_w + op.steel_loss_w + op.conductor_eddy_w) / g
+                > TEMPERATURE_CAP_C
+            )
             assert "means nothing" in op.temperature_words
             continue
         # The heat balance holds at the reported temperature ...
-        heat = op.copper_loss_w + op.steel_loss_w  # a stationary plate is cast against the stator
+        # the wire's eddy loss and a stationary plate's (cast against the stator) heat it too
+        heat = op.copper_loss_w + op.steel_loss_w + op.conductor_eddy_w
         assert op.coil_temperature_c == pytest.approx(ta.ambient_c + heat / g, abs=0.1)
         if ta.kind == "ac_line":
             continue
@@ -374,8 +377,10 @@ def test_coil_temperature_is_a_converged_fixed_point(demo):
             else Load("resistor", ta.voltage_v / ta.rated_current_a)
         )
         w = op.rpm * 2 * np.pi / 60
+        # The magnets at their own temperature: Br, and so the EMF, down by α per K over 20 °C.
+        warm = 1 + alpha * (op.magnet_temperature_c - 20)
         res = simulate_rectifier(
-            pr.emf.phase_v[None] * pr.turns_per_coil * w,
+            pr.emf.phase_v[None] * pr.turns_per_coil * w * warm,
             frequency_hz=np.array([d.layout.pole_pairs * op.rpm / 60]),
             resistance_ohm=np.array([pr.phase_resistance_ohm * copper_resistivity(op.coil_temperature_c)])
             / copper_resistivity(20),
@@ -445,7 +450,11 @@ def _delta_time_domain(d: Design, periods: int):
     ind = pr.phase_inductance_mh / 1000
     r_load = ta.voltage_v / (ta.rated_current_a / math.sqrt(3))
     f = d.layout.pole_pairs * rated.rpm / 60
-    waves = pr.phase_emf_v(rated.rpm)  # (3, m) over one electrical period
+    from layout.model import magnet_br_coefficient_per_k
+
+    # The magnets at their working temperature: Br down by α per K over 20 °C.
+    warm = 1 + magnet_br_coefficient_per_k(d.spec) * (rated.magnet_temperature_c - 20)
+    waves = pr.phase_emf_v(rated.rpm) * warm  # (3, m) over one electrical period
     m = waves.shape[1]
     grid = np.arange(m + 1) / (m * f)
     closed = np.concatenate([waves, waves[:, :1]], axis=1)

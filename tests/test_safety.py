@@ -6,7 +6,7 @@ import dataclasses
 import re
 
 import pytest
-from demos import DEMOS, design, variant
+from demos import DEMOS, PLATE, design, variant
 
 from layout.advice import CANDIDATES
 from layout.design import Design, compute_design
@@ -32,6 +32,7 @@ ALL_CODES = {
     "delta.circulating",
     "steel.stationary_loss",
     "coils.as_built_short",
+    "disc.softening",
     "rotor.spinning",
 }
 ACTION_VERBS = (
@@ -52,12 +53,14 @@ def message(d: Design, code: str) -> str:
 PLA_FAST = ("millrace", ("rotor.disc_material", "pla"), ("target.max_rpm", 10000.0))
 VARIANTS = [
     ("hilltop",),
+    ("hilltop", *PLATE),  # the stationary plate and its loss
     ("millrace",),
     ("pedalbox",),
     ("pedalbox", ("target.max_rpm", 3000.0)),
     PLA_FAST,
     ("millrace", ("rotor.disc_thickness_mm", 3.0)),
     ("millrace", ("rotor.topology", "one_disc_coreless")),
+    ("millrace", ("rotor.disc_material", "pla"), ("target.rated_rpm", 450.0)),  # printed, hot
 ]
 
 
@@ -65,7 +68,13 @@ def doctored_warnings():
     """Warnings for millrace with every figure pushed past its limit, to reach each branch."""
     d = design("millrace")
     pr, f = d.prediction, d.forces
-    rated = dataclasses.replace(pr.rated, coil_temperature_c=200.0, current_density_a_mm2=9.0, efficiency=0.5)
+    rated = dataclasses.replace(
+        pr.rated,
+        coil_temperature_c=200.0,
+        magnet_temperature_c=120.0,
+        current_density_a_mm2=9.0,
+        efficiency=0.5,
+    )
     top = dataclasses.replace(pr.curve[-1], coil_temperature_c=300.0)
     pr = dataclasses.replace(
         pr, rated=rated, curve=pr.curve[:-1] + (top,), cut_in_rpm=2 * d.spec.target.cut_in_rpm

@@ -165,7 +165,8 @@ def test_summary_holds_the_predicted_figures(sheets, designs, demo):
     pr = d.prediction
     text = section(sheets[demo, "a4"][1], d.spec.name)
     assert d.spec.purpose in text
-    assert f"{pr.open_circuit_line_rms_v:.1f} V" in text
+    # The open-circuit voltage with the magnets at room temperature, as on the bench.
+    assert f"{pr.open_circuit_line_rms_at(pr.rated_rpm, pr.ambient_c):.1f} V" in text
     if d.spec.target.kind == "battery":  # cut-in is defined for a battery only
         assert f"{pr.cut_in_rpm:.0f} rpm" in text
     assert f"{pr.rated.dc_power_w:.0f} W" in text
@@ -274,6 +275,37 @@ def test_a_balance_plan_that_disagrees_with_the_design_is_refused(designs, tmp_p
     assert not list(tmp_path.iterdir())  # nothing half written
 
 
+def test_a_plain_steel_disc_is_fitted_listed_and_balanced(sheets, designs, tmp_path):
+    d = designs["hilltop"]  # one magnet disc, a plain 8 mm steel disc across the stator
+    reader = sheets["hilltop", "a4"][1]
+    summary = " ".join(section(reader, d.spec.name).split())
+    assert "one magnet disc facing a plain steel disc across a coreless stator" in summary
+    maps = [t for t in page_texts(reader) if _first_line(t).startswith("Magnet map")]
+    assert len(maps) == 1  # the plain disc has no magnets to map
+    fitting = " ".join(maps[0].split())
+    assert "The plain steel disc (disc 2) carries no magnets" in fitting
+    assert f"about {d.forces.axial_force_n:.0f} N" in fitting
+    materials = " ".join(section(reader, "Balance report").split())
+    assert "magnet disc, steel" in materials and "plain disc, steel" in materials
+    assert "1 x 290 mm dia. x 8 mm" in materials and f"{d.forces.steel_disc_mass_kg:.2f} kg" in materials
+    assert "4 per disc" in materials and "the two discs" in materials
+    # A balance plan with the plain disc heavy off centre: its correction is placed by angle
+    # from its index mark, as it has no pockets to count between.
+    one, two = nominal_disc_bodies(d)
+    heavy = dataclasses.replace(two, com_offset_mm=(0.0, 1.0))
+    plan = balance_rotor(d, (one, heavy), None)
+    assert plan.discs[1].correction.needed
+    text = " ".join(
+        " ".join(page_texts(PdfReader(write_sheet(d, tmp_path / "b.pdf", balance=plan, date=DATE)))).split()
+    )
+    assert "the plain steel disc" in text and "static unbalance, both discs" in text
+    corr = plan.discs[1].correction
+    assert (
+        f"add {corr.add_g:.1f} g at {corr.radius_mm:.0f} mm, {corr.angle_deg:.0f}° from the index mark"
+        in text
+    )
+
+
 # --------------------------------------------------------------------------- winding checklist
 
 
@@ -378,10 +410,17 @@ def test_test_plan_gives_the_expected_readings(sheets, designs, demo):
     d = designs[demo]
     pr, ta = d.prediction, d.spec.target
     text = " ".join(section(sheets[demo, "a4"][1], "Test plan").split())
-    v = pr.open_circuit_line_rms_v
-    # The open-circuit voltage at the rated speed with its ±10 % band.
+    # The open-circuit voltage at the rated speed, magnets at room temperature: Br typical,
+    # falling by the grade's coefficient per K over 20 °C; the band is the grade's Br span
+    # (layout.materials) and ±10 % beyond it.
+    from layout.materials import MAGNET_GRADES
+
+    g = MAGNET_GRADES[d.spec.magnets.grade]
+    warm = 1 + g.br_temp_coeff_per_k * (ta.ambient_c - 20)
+    v = pr.open_circuit_line_rms_v * warm
+    lo, hi = 0.9 * v * g.br_range_t[0] / g.remanence_t, 1.1 * v * g.br_range_t[1] / g.remanence_t
     assert f"open circuit at {ta.rated_rpm:g} rpm" in text
-    assert f"{v:.1f} V rms ({0.9 * v:.1f} to {1.1 * v:.1f} V)" in text
+    assert f"{v:.1f} V rms ({lo:.1f} to {hi:.1f} V)" in text
     # Electrical frequency = pole pairs x rpm / 60, for reading the speed off a meter.
     assert f"{d.layout.pole_pairs * ta.rated_rpm / 60:.1f} Hz" in text
     r = pr.phase_resistance_ohm

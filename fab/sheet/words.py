@@ -6,7 +6,7 @@ bench checks, and the closing advice.
 from __future__ import annotations
 
 from layout.design import Design
-from layout.rotor import disc_count, is_steel_disc
+from layout.rotor import disc_count, is_plain_disc, is_steel_disc
 from layout.winding import terminal_pair
 
 # Bands the bench figures are checked against (common practice): a coil's resistance
@@ -24,15 +24,13 @@ def _band(value: float, pct: float) -> tuple[float, float]:
 def open_circuit_rms_v(design: Design, rpm: float) -> float:
     """Open-circuit voltage across the terminals (line to line for three phases), rms, at `rpm`.
 
-    The prediction's own figures at the rated and the highest speed; at any other speed the
-    rated one in proportion to speed, as the EMF of a permanent-magnet machine is (layout.emf
-    works per rad/s). Every page that states an open-circuit voltage takes it from here, so
-    the summary and the test plan cannot disagree.
+    The magnets at room temperature (target.ambient_c), as on the bench, with the grade's
+    typical Br; in proportion to speed, as the EMF of a permanent-magnet machine is. Every
+    page that states an open-circuit voltage takes it from here, so the summary and the test
+    plan cannot disagree.
     """
     pr = design.prediction
-    if rpm == pr.max_rpm:
-        return pr.open_circuit_line_rms_at_max_v
-    return pr.open_circuit_line_rms_v * rpm / pr.rated_rpm
+    return pr.open_circuit_line_rms_at(rpm, pr.ambient_c)  # the magnets at room temperature
 
 
 def cut_in_rpm_stated(design: Design) -> float | None:
@@ -67,6 +65,8 @@ def _pocket_word(design: Design) -> str:
 
 
 def _disc_name(design: Design, disc: int) -> str:
+    if is_plain_disc(design.spec, disc):
+        return "the plain steel disc"
     if disc_count(design.spec) == 1:
         return "the magnet disc"
     return "disc 1 (lower)" if disc == 1 else "disc 2 (upper)"
