@@ -144,6 +144,10 @@ FIGURES: dict[str, _Figure] = {
         "K", lambda d: _rated(d).magnet_temperature_c - _softening_c(d.spec), -1, 1.0, "",
         lambda d: f"discs {_rated(d).magnet_temperature_c:.0f} °C, soften at {_softening_c(d.spec):g} °C",
     ),
+    "coil.wire_eddy": _Figure(
+        "W", lambda d: _rated(d).conductor_eddy_w, -1, 0.05, "wire eddy loss ",
+        lambda d: f"{_rated(d).conductor_eddy_w:.1f} W",
+    ),
     "steel.saturation": _Figure(
         "T", lambda d: d.forces.steel_peak_b_t or 0.0, -1, 0.01, "steel ",
         lambda d: f"{d.forces.steel_peak_b_t or 0.0:.2f} T",
@@ -243,6 +247,14 @@ def _no_standing_steel(design: Design) -> Iterable[tuple[str, object]]:
     yield "stator.thickness_mm", _up(design.spec.stator.thickness_mm, 1.25)
 
 
+def _thinner_strands(design: Design) -> Iterable[tuple[str, object]]:
+    """The eddy loss of a round wire goes as d⁴ per strand: strands of half or two thirds."""
+    d = design.prediction.wire.diameter_mm
+    for f in (0.5, 0.7):
+        if d * f >= 0.2:
+            yield "stator.max_wire_diameter_mm", round(d * f, 2)
+
+
 CANDIDATES: dict[str, tuple[Callable[[Design], Iterable[tuple[str, object]]], ...]] = {
     "coil.current_density": (_more_copper, _higher_cut_in),
     "coil.temperature": (_more_copper, _higher_cut_in),
@@ -253,6 +265,7 @@ CANDIDATES: dict[str, tuple[Callable[[Design], Iterable[tuple[str, object]]], ..
     "steel.saturation": (_thicker_steel,),
     "steel.stationary_loss": (_no_standing_steel,),
     "disc.softening": (_stronger_disc, _more_copper),
+    "coil.wire_eddy": (_thinner_strands,),
 }
 
 

@@ -89,6 +89,41 @@ def remanence_t(spec: Spec) -> float:
     return mg.remanence_t if mg.remanence_t is not None else MAGNET_GRADES[mg.grade].remanence_t
 
 
+def magnet_air_gap_mm(spec: Spec) -> float | None:
+    """The air each magnet drives its flux across to steel (mm): half the gap between facing
+    magnets of two discs, the whole gap to a steel face opposite one disc; None where no
+    steel faces the magnets (a one-disc coreless rotor)."""
+    st, ro = spec.stator, spec.rotor
+    if ro.topology == "two_discs":
+        return st.thickness_mm / 2 + ro.running_clearance_mm
+    if ro.topology == "one_disc_steel_stator":
+        return st.thickness_mm + ro.running_clearance_mm
+    if ro.topology == "one_disc_steel_disc":
+        return st.thickness_mm + 2 * ro.running_clearance_mm
+    return None
+
+
+def recoil_factor(spec: Spec) -> float:
+    """Working polarisation over Br for a magnet of recoil permeability μ_rec (> 1): the field
+    opposing it inside lowers its magnetisation. For a magnet of thickness t driving flux
+    across an air gap g to ideal steel, the 1-D magnetic circuit gives B = Br·t/(t + μ_rec·g)
+    against Br·t/(t + g) at μ_rec = 1 (e.g. Furlani 2001, ch. 3; Hendershot & Miller 1994),
+    so the ratio is (t + g)/(t + μ_rec·g). Without steel opposite, the magnet's own
+    demagnetising factor is taken as 1: the ratio 1/μ_rec."""
+    mg = spec.magnets
+    grade = (
+        MAGNET_GRADES[mg.grade]
+        if mg.grade
+        else MAGNET_GRADES["N35" if (mg.remanence_t or 1) >= 0.8 else "Y30"]
+    )
+    mu = grade.recoil_permeability
+    gap = magnet_air_gap_mm(spec)
+    if gap is None:
+        return 1 / mu
+    t = mg.thickness_mm
+    return (t + gap) / (t + mu * gap)
+
+
 def _side_point(x: float, delta: float, beta: float, upper: bool) -> tuple[float, float]:
     """The point at abscissa x whose inward distance from the sector edge at ±beta is delta."""
     y = (x * math.sin(beta) - delta) / math.cos(beta)
@@ -198,6 +233,7 @@ def resolve_geometry(spec: Spec, coil_indices: tuple[int, ...]) -> Geometry:
     st, mg, ro = spec.stator, spec.magnets, spec.rotor
     s, g, h = st.thickness_mm, ro.running_clearance_mm, mg.thickness_mm
     br = remanence_t(spec)
+    j_work = br * recoil_factor(spec)  # the magnets' polarisation as they work (recoil)
     steel_disc = DISC_MATERIALS[ro.disc_material].magnetic
     if ro.topology == "two_discs":
         stator = (-s / 2, s / 2)
@@ -223,7 +259,7 @@ def resolve_geometry(spec: Spec, coil_indices: tuple[int, ...]) -> Geometry:
             x = mg.pitch_radius_mm * math.cos(math.radians(ang))
             y = mg.pitch_radius_mm * math.sin(math.radians(ang))
             # Facing magnets are magnetised the same way along z: N faces S across the gap.
-            pol = br if j % 2 == 0 else -br
+            pol = j_work if j % 2 == 0 else -j_work
             magnets.append(Magnet(disc, mg.shape, (x, y, zc), dim, ang, pol))
     q = st.coil_positions
     geo = Geometry(

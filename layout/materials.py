@@ -17,6 +17,7 @@ class MagnetGrade:
     br_temp_coeff_per_k: float  # reversible temperature coefficient of Br
     density_g_cm3: float
     br_range_t: tuple[float, float] = (0.0, 0.0)  # the grade's published Br span at 20 °C
+    recoil_permeability: float = 1.05  # sintered NdFeB 1.03–1.10 (from memory)
 
 
 # Sintered NdFeB: Br ranges per IEC 60404-8-1 grade classes and MMPA Standard 0100; the
@@ -52,7 +53,8 @@ def _build_grades() -> dict[str, MagnetGrade]:
             name = base + suffix
             grades[name] = MagnetGrade(name, (lo + hi) / 2, t_max, -0.0012, NDFEB_DENSITY_G_CM3, (lo, hi))
     for name, (lo, hi) in (("Y30", (0.38, 0.40)), ("Y35", (0.40, 0.44))):
-        grades[name] = MagnetGrade(name, (lo + hi) / 2, 250.0, -0.0020, FERRITE_DENSITY_G_CM3, (lo, hi))
+        # hard ferrite recoils at about 1.05–1.2 (from memory)
+        grades[name] = MagnetGrade(name, (lo + hi) / 2, 250.0, -0.0020, FERRITE_DENSITY_G_CM3, (lo, hi), 1.1)
     return grades
 
 

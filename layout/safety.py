@@ -21,6 +21,7 @@ CURRENT_DENSITY_STILL_AIR_A_MM2 = 5.0  # hand-wound coils in still air: 3–5 A/
 CURRENT_DENSITY_CAST_A_MM2 = 4.0  # coils cast in resin shed heat worse (common practice)
 STEEL_LOSS_SHARE = 0.1  # a stationary plate's loss worth a warning, share of shaft input (our choice)
 PRINTED_MARGIN_K = 10.0  # a printed disc should stay this far below its softening point (our choice)
+WIRE_EDDY_SHARE = 0.1  # the wire's eddy loss worth a warning, share of I²R (our choice)
 DELTA_LOOP_SHARE = 0.03  # a delta's circulating loss worth a warning, share of output (our choice)
 PACEMAKER_DISTANCE_MM = 150  # keep strong magnets this far from implants (from memory)
 DEFER = "follow local codes and have a licensed electrician check the installation"
@@ -276,6 +277,15 @@ def collect_warnings(
             f"{rated.rpm:g} rpm to eddy currents and hysteresis under the moving magnets, "
             f"{rated.steel_loss_w / rated.shaft_power_w:.0%} of the shaft input (a rough estimate): "
             "it drags on the rotor and heats the stator.",
+        )
+    if rated.conductor_eddy_w > WIRE_EDDY_SHARE * max(rated.copper_loss_w, 1e-9) and rated.copper_loss_w > 0:
+        add(
+            "coil.wire_eddy",
+            "warning",
+            f"Eddy currents in the {pred.wire.diameter_mm:.2f} mm wire itself cost "
+            f"{rated.conductor_eddy_w:.1f} W at {rated.rpm:g} rpm, "
+            f"{rated.conductor_eddy_w / rated.copper_loss_w:.0%} of the I²R loss: "
+            "thinner strands in hand carry the same current with less of it.",
         )
     slip = unit_slip_hint(spec)
     if slip:

@@ -14,7 +14,7 @@ from scipy.spatial.transform import Rotation
 
 from layout.design import Design, compute_design, winding_layout
 from layout.emf import coil_linkage, flux_map, phase_emf, rms, turn_weight
-from layout.geometry import CoilShape, remanence_t, resolve_geometry
+from layout.geometry import CoilShape, recoil_factor, remanence_t, resolve_geometry
 from layout.spec import Spec, load_spec, parse_spec
 
 DESIGNS = Path(__file__).resolve().parents[1] / "designs"
@@ -215,7 +215,7 @@ def rotor_from_spec(spec: Spec, reflections: int) -> list:
                 z = 2 * planes[k] - z
                 zs.append(z)
                 k = 1 - k
-    br = remanence_t(spec)
+    br = remanence_t(spec) * recoil_factor(spec)  # working polarisation (closed form in geometry)
     objs = []
     for j in range(mg.count):
         ang = 2 * math.pi * j / mg.count

@@ -59,3 +59,18 @@ def test_every_loss_is_in_the_shaft_input_and_the_small_ones_stay_small():
                 assert op.efficiency == pytest.approx(op.dc_power_w / op.shaft_power_w)
     rated = design("pedalbox").prediction.rated
     assert 0.02 < rated.conductor_eddy_w / rated.copper_loss_w < 0.3  # thick wire at 80 Hz
+
+
+def test_strands_in_hand_are_offered_when_the_wire_eddy_loss_matters():
+    # Eddy loss ∝ d⁴ per strand and ∝ d² in strand count for the same copper: thinner strands
+    # cut it about as (d_new/d)² (closed form); the model re-runs and offers them.
+    from fab.fit import check_parts
+    from layout.advice import suggest
+
+    d = design("pedalbox", ("target.rated_rpm", 900.0), ("target.max_rpm", 1200.0))
+    assert "coil.wire_eddy" in {w.code for w in d.warnings}
+    offered = [s for s in suggest(d, check_parts) if s.code == "coil.wire_eddy"]
+    assert offered and all(s.key == "stator.max_wire_diameter_mm" for s in offered)
+    for s in offered:
+        ratio = (s.to / d.prediction.wire.diameter_mm) ** 2
+        assert s.value < s.now * ratio * 1.6  # gauges come in steps

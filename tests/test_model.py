@@ -40,13 +40,15 @@ def test_cut_in_is_where_the_rectified_open_circuit_peak_reaches_the_battery(nam
     assert pr.cut_in_voltage_v == pytest.approx(v_cut, rel=1e-12)
 
 
-def simulate_at(d: Design, turns: int, rpms, load: Load):
-    """The bridge model at ambient temperature for `turns` per coil on the design's window."""
+def simulate_at(d: Design, turns: int, rpms, load: Load, coil_c=None, magnet_c=20.0):
+    """The bridge model for `turns` per coil on the design's window, the copper at `coil_c`
+    (ambient if None) and the magnets at `magnet_c` (Br down by the grade's α per K)."""
     cu = model._copper(d.spec, d.geometry, d.layout, turns)
     assert cu is not None
-    temps = np.full(len(rpms), d.spec.target.ambient_c)
+    temps = np.full(len(rpms), d.spec.target.ambient_c if coil_c is None else coil_c)
+    warm = 1 + model.magnet_br_coefficient_per_k(d.spec) * (magnet_c - 20.0)
     return model._simulate(
-        d.spec, d.layout, d.prediction.emf, turns, cu[3], cu[4], np.asarray(rpms), load, temps
+        d.spec, d.layout, d.prediction.emf, turns * warm, cu[3], cu[4], np.asarray(rpms), load, temps
     )
 
 
@@ -145,8 +147,10 @@ def test_dc_target_is_met_with_the_fewest_turns():
     assert d.prediction.rated.rpm == ta.rated_rpm
     assert d.prediction.rated.dc_voltage_v >= ta.voltage_v
     load = Load("resistor", ta.voltage_v / ta.rated_current_a)
-    at_n = simulate_at(d, n, [ta.rated_rpm], load).dc_voltage_v[0]
-    fewer = simulate_at(d, n - 1, [ta.rated_rpm], load).dc_voltage_v[0]
+    # At the rated point's own coil and magnet temperatures, the conditions it was sized at.
+    hot = (d.prediction.rated.coil_temperature_c, d.prediction.rated.magnet_temperature_c)
+    at_n = simulate_at(d, n, [ta.rated_rpm], load, *hot).dc_voltage_v[0]
+    fewer = simulate_at(d, n - 1, [ta.rated_rpm], load, *hot).dc_voltage_v[0]
     assert at_n >= ta.voltage_v
     assert fewer < ta.voltage_v
 

@@ -33,6 +33,7 @@ ALL_CODES = {
     "steel.stationary_loss",
     "coils.as_built_short",
     "disc.softening",
+    "coil.wire_eddy",
     "rotor.spinning",
 }
 ACTION_VERBS = (
@@ -61,6 +62,7 @@ VARIANTS = [
     ("millrace", ("rotor.disc_thickness_mm", 3.0)),
     ("millrace", ("rotor.topology", "one_disc_coreless")),
     ("millrace", ("rotor.disc_material", "pla"), ("target.rated_rpm", 450.0)),  # printed, hot
+    ("pedalbox", ("target.rated_rpm", 900.0), ("target.max_rpm", 1200.0)),  # thick wire, fast
 ]
 
 

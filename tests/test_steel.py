@@ -110,7 +110,7 @@ def test_advice_for_the_plate_is_steel_that_turns_or_none():
     plain = turning["one_disc_steel_disc"]
     assert plain.value == 0.0 and plain.clears
     assert "without rotor.stator_plate_thickness_mm" in plain.words
-    assert plain.rated_power_w > plain.rated_power_now_w
+    assert plain.rated_power_w == pytest.approx(plain.rated_power_now_w, rel=0.1)  # same magnets
 
 
 def test_a_plain_steel_disc_turning_with_the_magnets_loses_nothing():
