@@ -189,6 +189,7 @@ def electrical_json(design: Design) -> dict:
         "rated_current_density_a_mm2": _r(rated.current_density_a_mm2, 3),
         "rated_coil_temperature_c": None if rated.temperature_over_cap else _r(rated.coil_temperature_c, 1),
         "magnet_temperature_c": _r(pr.magnet_temperature_c, 1),
+        "saturation_derate": _r(pr.saturation_derate),  # EMF a saturated steel plate leaves
         "open_circuit_line_rms_warm_v": _r(pr.open_circuit_line_rms_warm_v, 3),
         "cut_in_warm_rpm": _r(pr.cut_in_warm_rpm, 1),
         # at rated_rpm over the grade's Br range, strongest magnets cold (ambient) to weakest warm

@@ -148,6 +148,10 @@ FIGURES: dict[str, _Figure] = {
         "W", lambda d: _rated(d).conductor_eddy_w, -1, 0.05, "wire eddy loss ",
         lambda d: f"{_rated(d).conductor_eddy_w:.1f} W",
     ),
+    "disc.bending": _Figure(
+        "mm", lambda d: d.forces.disc_deflection_mm or 0.0, -1, 0.005, "disc bends ",
+        lambda d: f"{d.forces.disc_deflection_mm or 0.0:.2f} mm",
+    ),
     "steel.saturation": _Figure(
         "T", lambda d: d.forces.steel_peak_b_t or 0.0, -1, 0.01, "steel ",
         lambda d: f"{d.forces.steel_peak_b_t or 0.0:.2f} T",
@@ -247,6 +251,17 @@ def _no_standing_steel(design: Design) -> Iterable[tuple[str, object]]:
     yield "stator.thickness_mm", _up(design.spec.stator.thickness_mm, 1.25)
 
 
+def _stiffer_disc(design: Design) -> Iterable[tuple[str, object]]:
+    """Bending goes as 1/(E t³): a thicker disc, or a stiffer material than the design's."""
+    ro = design.spec.rotor
+    yield "rotor.disc_thickness_mm", _up(ro.disc_thickness_mm, 1.5)
+    yield "rotor.disc_thickness_mm", _up(ro.disc_thickness_mm, 2.0)
+    now = DISC_MATERIALS[ro.disc_material].modulus_gpa
+    stiffer = [m for m in DISC_MATERIALS.values() if m.modulus_gpa > now and not m.magnetic]
+    if stiffer:
+        yield "rotor.disc_material", max(stiffer, key=lambda m: m.modulus_gpa).name
+
+
 def _thinner_strands(design: Design) -> Iterable[tuple[str, object]]:
     """The eddy loss of a round wire goes as d⁴ per strand: strands of half or two thirds."""
     d = design.prediction.wire.diameter_mm
@@ -266,6 +281,7 @@ CANDIDATES: dict[str, tuple[Callable[[Design], Iterable[tuple[str, object]]], ..
     "steel.stationary_loss": (_no_standing_steel,),
     "disc.softening": (_stronger_disc, _more_copper),
     "coil.wire_eddy": (_thinner_strands,),
+    "disc.bending": (_stiffer_disc,),
 }
 
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
@@ -11,6 +12,7 @@ from layout.emf import CoilLinkage, FluxMap, coil_linkage, flux_map, phase_emf
 from layout.forces import Forces, compute_forces
 from layout.geometry import Geometry, resolve_geometry
 from layout.losses import rotor_mass_kg
+from layout.materials import STEEL_SATURATION_T
 from layout.model import Prediction, predict
 from layout.pairs import balanced_alternatives
 from layout.safety import DELTA_LOOP_SHARE, Warning, collect_warnings
@@ -86,6 +88,22 @@ def winding_layout(spec: Spec) -> Layout:
     return lay
 
 
+def saturation_derate(forces: Forces) -> float:
+    """What a saturated steel plate leaves of the EMF: past the saturation level B_s the
+    plate carries at most B_s over its section, so the flux per pole, and the EMF with it,
+    is limited to B_s/B of what the image method (ideal steel) gives (a flux-limited
+    equivalent reluctance; layout.materials.STEEL_SATURATION_T, from memory)."""
+    b = forces.steel_peak_b_t
+    return 1.0 if b is None or b <= STEEL_SATURATION_T else STEEL_SATURATION_T / b
+
+
+def scaled_emf(emf, factor: float):
+    """The EMF per turn with every waveform scaled by `factor`."""
+    return dataclasses.replace(
+        emf, coil_v=emf.coil_v * factor, phase_v=emf.phase_v * factor, line_v=emf.line_v * factor
+    )
+
+
 def _as_star(
     spec: Spec,
     geo: Geometry,
@@ -102,7 +120,8 @@ def _as_star(
         return None
     try:
         star = with_value(spec, "connection.kind", "star")
-        return predict(star, geo, lay, phase_emf(link, lay, "star"), plate, rated_only=True, **extra)
+        emf = scaled_emf(phase_emf(link, lay, "star"), pred.saturation_derate)
+        return predict(star, geo, lay, emf, plate, rated_only=True, **extra)
     except DesignError:
         return None
 
@@ -117,7 +136,10 @@ def compute_design(spec: Spec) -> Design:
     plate = plate_flux(spec, geo, fmap.sources)
     forces = compute_forces(spec, geo, fmap.sources, fmap.peak_bz_t)
     losses = {"fmap": fmap, "rotor_mass_kg": rotor_mass_kg(spec, forces)}
-    pred = predict(spec, geo, lay, emf, plate, **losses)
+    derate = saturation_derate(forces)
+    if derate < 1:
+        emf = scaled_emf(emf, derate)
+    pred = dataclasses.replace(predict(spec, geo, lay, emf, plate, **losses), saturation_derate=derate)
     warnings = collect_warnings(
         spec, lay, pred, forces, _as_star(spec, geo, lay, link, pred, plate, **losses)
     )

@@ -10,7 +10,7 @@ import numpy as np
 from layout.field import Sources, bz
 from layout.geometry import Geometry
 from layout.materials import DISC_MATERIALS, MAGNET_GRADES, NDFEB_DENSITY_G_CM3
-from layout.rotor import PLAIN_DISC, disc_material, disc_thickness_mm
+from layout.rotor import PLAIN_DISC, disc_material, disc_thickness_mm, hub_bolt_radius_mm
 from layout.spec import Spec, magnet_radial_extent_mm, magnet_tangential_extent_mm
 
 MU0 = 4e-7 * math.pi
@@ -40,6 +40,13 @@ class Forces:
     steel_disc_mass_kg: float | None = None
     steel_disc_hoop_stress_mpa: float | None = None  # at the bore, at max_rpm, the disc alone
     steel_disc_hoop_safety_factor: float | None = None
+    # A magnet disc bending under the attraction, at the magnets (mm); None if nothing pulls.
+    disc_deflection_mm: float | None = None
+    # What holds each magnet in its place: pull out of it and outward fling (N), and the bond's
+    # safety factor on the one it carries (None where the steel behind holds it axially).
+    magnet_pull_out_n: float = 0.0
+    magnet_fling_n: float = 0.0
+    bond_safety_factor: float | None = None
 
 
 def disc_outer_radius_mm(spec: Spec) -> float:
@@ -167,7 +174,22 @@ def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t
             "steel_disc_hoop_stress_mpa": sigma2,
             "steel_disc_hoop_safety_factor": steel.strength_mpa / sigma2 if sigma2 > 0 else math.inf,
         }
+    holding = _magnet_holding(spec, force, m_mag, omega)
+    # The magnet disc bends under the attraction, clamped at the hub, free at its rim.
+    deflection = None
+    if force > 0:
+        deflection = 1e3 * ring_loaded_disc_deflection_m(
+            force,
+            mg.pitch_radius_mm * 1e-3,
+            hub_bolt_radius_mm(spec) * 1e-3,
+            r_out * 1e-3,
+            mat.modulus_gpa * 1e9,
+            mat.poisson,
+            ro.disc_thickness_mm * 1e-3,
+        )
     return Forces(
+        disc_deflection_mm=deflection,
+        **holding,
         axial_force_n=force,
         jacking_screws=force > JACKING_FORCE_N,
         steel_peak_b_t=steel_b,
@@ -182,6 +204,81 @@ def compute_forces(spec: Spec, geo: Geometry, sources: Sources, airgap_peak_bz_t
         airgap_peak_bz_t=airgap_peak_bz_t,
         **steel_disc,
     )
+
+
+def magnet_bond_mpa(spec: Spec) -> float:
+    """The bond holding a magnet: the design's, or about 3 MPa for a two-part epoxy on printed
+    plastic and 10 MPa on metal, plywood or acrylic (lap-shear figures of common epoxies
+    with a margin for a builder's joint; from memory)."""
+    if spec.rotor.magnet_bond_mpa is not None:
+        return spec.rotor.magnet_bond_mpa
+    return 3.0 if DISC_MATERIALS[spec.rotor.disc_material].printed else 10.0
+
+
+def _magnet_holding(spec: Spec, force_n: float, magnet_g: float, omega: float) -> dict:
+    """Each magnet's pull out of its place (the attraction shared among a disc's magnets) and
+    its outward fling m·ω²·r at max_rpm. On a steel disc the magnet's own pull onto the steel
+    holds it axially and the bond carries the fling; in the pocket of any other disc the
+    pocket's wall takes the fling and the bond over the magnet's face carries the pull."""
+    mg = spec.magnets
+    pull = force_n / mg.count
+    fling = magnet_g * 1e-3 * omega**2 * mg.pitch_radius_mm * 1e-3
+    area = magnet_radial_extent_mm(mg) * magnet_tangential_extent_mm(mg)
+    if mg.shape == "disc":
+        area *= math.pi / 4
+    carried = fling if DISC_MATERIALS[spec.rotor.disc_material].magnetic else pull
+    safety = magnet_bond_mpa(spec) * area / carried if carried > 0 else math.inf
+    return {"magnet_pull_out_n": pull, "magnet_fling_n": fling, "bond_safety_factor": safety}
+
+
+def ring_loaded_disc_deflection_m(
+    force_n: float,
+    r_load_m: float,
+    r_clamp_m: float,
+    r_out_m: float,
+    modulus_pa: float,
+    poisson: float,
+    t_m: float,
+) -> float:
+    """Deflection (m) at the load circle of an annular plate clamped at its inner radius, free
+    at its outer edge, under a ring load `force_n` at `r_load_m`.
+
+    Kirchhoff plate theory, axisymmetric: w = A + B r² + C ln r + E r² ln r in each region
+    (Timoshenko & Woinowsky-Krieger, Theory of Plates and Shells, 2nd ed., 1959, §§15–18;
+    the same solutions behind Roark's Formulas for Stress and Strain, table of annular
+    plates, case "outer edge free, inner edge fixed, annular line load"). The shear
+    Q = −4DE/r vanishes outside the load (free edge) and jumps by F/(2πr₀) across it; w,
+    w′ and the moment are continuous there; w = w′ = 0 at the clamp, M_r = 0 at the edge.
+    """
+    d = modulus_pa * t_m**3 / (12 * (1 - poisson**2))
+    b, r0, a = r_clamp_m, r_load_m, r_out_m
+    e1 = force_n / (8 * math.pi * d)  # inside the load circle; E = 0 outside it
+
+    def basis(r):  # w, w', w'' of A, B, C (the E term is added separately)
+        return (
+            np.array([1.0, r * r, math.log(r)]),
+            np.array([0.0, 2 * r, 1 / r]),
+            np.array([0.0, 2.0, -1 / r**2]),
+        )
+
+    def e_term(r):
+        return r * r * math.log(r), 2 * r * math.log(r) + r, 2 * math.log(r) + 3
+
+    rows, rhs = [], []
+    w, w1, _ = basis(b)
+    ew, ew1, _ = e_term(b)
+    rows += [np.r_[w, 0, 0, 0], np.r_[w1, 0, 0, 0]]
+    rhs += [-e1 * ew, -e1 * ew1]
+    for k in range(3):  # w, w', w'' continuous at r0
+        f = basis(r0)[k]
+        rows.append(np.r_[f, -f])
+        rhs.append(-e1 * e_term(r0)[k])
+    _, w1a, w2a = basis(a)
+    rows.append(np.r_[0, 0, 0, w2a + poisson * w1a / a])  # M_r = 0 at the free edge
+    rhs.append(0.0)
+    coef = np.linalg.solve(np.array(rows), np.array(rhs))
+    w0 = basis(r0)[0]
+    return abs(float(coef[3:] @ w0))
 
 
 def magnet_pull_n(spec: Spec) -> float:

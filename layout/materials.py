@@ -71,20 +71,23 @@ class DiscMaterial:
     magnetic: bool  # soft magnetic: mirrors the magnets' field (method of images)
     printed: bool  # made on a 3-D printer (pocket clearance, softening)
     softening_c: float | None  # where a plastic starts to creep under load
+    modulus_gpa: float = 200.0  # Young's modulus, for the disc's bending under the attraction
 
 
 # Densities: common handbook values. Strengths: typical minimum values (from memory):
 # S235 steel yield 235 MPa, 6061-T6 aluminium yield 240 MPa, printed PLA/PETG/ABS tensile
 # about 50/45/35 MPa along the layers (much less across them), birch plywood ~40 MPa,
-# cast acrylic ~65 MPa. Softening points of printed plastics: common practice.
+# cast acrylic ~65 MPa. Softening points of printed plastics: common practice. Young's
+# moduli (from memory): steel 200 GPa, aluminium 69, printed PLA ~3.5, PETG ~2.0, ABS ~2.2
+# (less across the layers), birch plywood ~8 along the face grain, acrylic ~3.2.
 DISC_MATERIALS: dict[str, DiscMaterial] = {
-    "steel": DiscMaterial("steel", 7.85, 235.0, 0.29, True, False, None),
-    "aluminium": DiscMaterial("aluminium", 2.70, 240.0, 0.33, False, False, None),
-    "pla": DiscMaterial("pla", 1.24, 50.0, 0.36, False, True, 55.0),
-    "petg": DiscMaterial("petg", 1.27, 45.0, 0.38, False, True, 80.0),
-    "abs": DiscMaterial("abs", 1.04, 35.0, 0.35, False, True, 100.0),
-    "plywood": DiscMaterial("plywood", 0.65, 40.0, 0.30, False, False, None),
-    "acrylic": DiscMaterial("acrylic", 1.18, 65.0, 0.37, False, False, None),
+    "steel": DiscMaterial("steel", 7.85, 235.0, 0.29, True, False, None, 200.0),
+    "aluminium": DiscMaterial("aluminium", 2.70, 240.0, 0.33, False, False, None, 69.0),
+    "pla": DiscMaterial("pla", 1.24, 50.0, 0.36, False, True, 55.0, 3.5),
+    "petg": DiscMaterial("petg", 1.27, 45.0, 0.38, False, True, 80.0, 2.0),
+    "abs": DiscMaterial("abs", 1.04, 35.0, 0.35, False, True, 100.0, 2.2),
+    "plywood": DiscMaterial("plywood", 0.65, 40.0, 0.30, False, False, None, 8.0),
+    "acrylic": DiscMaterial("acrylic", 1.18, 65.0, 0.37, False, False, None, 3.2),
 }
 
 # What holds the coils of the stator, and the temperature it takes. Printed formers soften

@@ -172,6 +172,7 @@ class Prediction:
     br_per_k: float = 0.0  # the magnets' reversible Br coefficient, 1/K
     br_span: tuple[float, float] = (1.0, 1.0)  # the grade's Br range over its typical value
     ambient_c: float = 20.0
+    saturation_derate: float = 1.0  # EMF left by a saturated steel plate (design.saturation_derate)
 
     def open_circuit_line_rms_at(self, rpm: float, magnet_c: float = 20.0) -> float:
         """Open-circuit line voltage (V rms) at `rpm` with the magnets at `magnet_c`, typical Br:

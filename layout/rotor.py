@@ -53,6 +53,15 @@ def pocket_depth_mm(spec: Spec) -> float:
     return min(spec.magnets.thickness_mm, ro.disc_thickness_mm - floor)
 
 
+def hub_bolt_radius_mm(spec: Spec) -> float:
+    """Radius (mm) of the hub bolt circle: the design's, or the bore plus three bolt holes
+    across (our default), where the hub clamps the disc."""
+    ro = spec.rotor
+    if ro.hub_bolt_circle_mm is not None:
+        return ro.hub_bolt_circle_mm / 2
+    return (ro.bore_diameter_mm + 3 * ro.hub_hole_diameter_mm) / 2
+
+
 def disc_count(spec: Spec) -> int:
     """Magnet discs on the rotor: 2 for `two_discs`, else 1."""
     return 2 if spec.rotor.topology == "two_discs" else 1

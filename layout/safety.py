@@ -22,6 +22,8 @@ CURRENT_DENSITY_CAST_A_MM2 = 4.0  # coils cast in resin shed heat worse (common 
 STEEL_LOSS_SHARE = 0.1  # a stationary plate's loss worth a warning, share of shaft input (our choice)
 PRINTED_MARGIN_K = 10.0  # a printed disc should stay this far below its softening point (our choice)
 WIRE_EDDY_SHARE = 0.1  # the wire's eddy loss worth a warning, share of I²R (our choice)
+DISC_BEND_SHARE = 0.3  # a disc's bending worth a warning, share of the running clearance (our choice)
+BOND_SAFETY_FACTOR = 3.0  # on what holds a magnet against pull and fling (common practice)
 DELTA_LOOP_SHARE = 0.03  # a delta's circulating loss worth a warning, share of output (our choice)
 PACEMAKER_DISTANCE_MM = 150  # keep strong magnets this far from implants (from memory)
 DEFER = "follow local codes and have a licensed electrician check the installation"
@@ -171,6 +173,42 @@ def collect_warnings(
                 "creeps: magnets can work loose and the gap close. Keep the machine out of the sun and "
                 "check the gap after the first long runs.",
             )
+    if (
+        forces.disc_deflection_mm is not None
+        and forces.disc_deflection_mm > DISC_BEND_SHARE * spec.rotor.running_clearance_mm
+    ):
+        add(
+            "disc.bending",
+            "warning",
+            f"Under the {forces.axial_force_n:.0f} N attraction the magnet disc bends about "
+            f"{forces.disc_deflection_mm:.2f} mm at the magnets (a plate clamped at the hub; rough), "
+            f"{forces.disc_deflection_mm / spec.rotor.running_clearance_mm:.0%} of the running clearance: "
+            "the gap closes as the discs come together and can rub.",
+        )
+    if forces.bond_safety_factor is not None and forces.bond_safety_factor < BOND_SAFETY_FACTOR:
+        carried = (
+            forces.magnet_fling_n
+            if DISC_MATERIALS[spec.rotor.disc_material].magnetic
+            else forces.magnet_pull_out_n
+        )
+        add(
+            "magnet.retention",
+            "danger",
+            f"Each magnet is pulled out of its place with about {forces.magnet_pull_out_n:.0f} N and flung "
+            f"outwards with {forces.magnet_fling_n:.0f} N at {ta.max_rpm:g} rpm; its bond holds "
+            f"{forces.bond_safety_factor:.1f} times the {carried:.0f} N it carries (want "
+            f"{BOND_SAFETY_FACTOR:g}): a magnet that lets go is a projectile. Set rotor.magnet_bond_mpa "
+            "to the adhesive's own figure, or hold the magnets with a rim or cover.",
+        )
+    if disc.printed:
+        add(
+            "disc.printed_care",
+            "info",
+            f"Printed {disc.name} discs: glue every magnet into its pocket with a two-part epoxy and let "
+            f"it cure fully before the first spin, keep the machine out of direct sun ({disc.name} "
+            f"creeps from {disc.softening_c:g} °C), and check the discs for cracks and loose magnets "
+            "before each season.",
+        )
     add(
         "magnet.pinch",
         "danger",
@@ -206,7 +244,13 @@ def collect_warnings(
             "steel.saturation",
             "warning",
             f"The steel {forces.steel_plate} carries about {forces.steel_peak_b_t:.2f} T, above "
-            f"{STEEL_B_LIMIT_T:g} T: it saturates and the output falls.",
+            f"{STEEL_B_LIMIT_T:g} T: it saturates and the output falls"
+            + (
+                f"; the model limits the flux, and so the EMF, to {pred.saturation_derate:.0%} of what "
+                "ideal steel would give."
+                if pred.saturation_derate < 1
+                else "."
+            ),
         )
     if layout.unbalanced_pull:
         add(

@@ -140,6 +140,9 @@ class RotorSpec:
     jacking_screw: str = rule("M10", choices=METRIC_THREADS)
     jacking_screws: int = rule(3, ge=3, le=12, why="three or more hold the disc level")
     jacking_circle_mm: float | None = rule(None, ge=5, le=2000)
+    magnet_bond_mpa: float | None = rule(
+        None, ge=0.1, le=50, why="the adhesive's strength holding a magnet in its place, in MPa"
+    )
 
 
 @dataclass(frozen=True)

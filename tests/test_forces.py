@@ -298,3 +298,61 @@ def test_plain_disc_hoop_stress_mass_by_hand():
     assert same.steel_disc_mass_kg == pytest.approx(f.disc_mass_kg, rel=1e-9)
     for other in ("millrace", "pedalbox"):
         assert design(other).forces.steel_disc_mass_kg is None
+
+
+def test_disc_bending_agrees_with_a_separate_plate_solution():
+    # The annular plate clamped at the hub and free at the rim under a ring load, solved
+    # here as the axisymmetric Kirchhoff plate equation D∇⁴w = q with scipy's solve_bvp (a
+    # narrow Gaussian band of pressure for the ring), apart from the closed-form solution.
+    from scipy.integrate import solve_bvp
+
+    from layout.forces import ring_loaded_disc_deflection_m
+
+    f, r0, b, a, e, nu, t = 500.0, 0.10, 0.03, 0.13, 3.5e9, 0.36, 0.006
+    d = e * t**3 / (12 * (1 - nu**2))
+    sig = 0.002
+    norm = f / (2 * math.pi * r0 * sig * math.sqrt(2 * math.pi))
+
+    def rhs(r, y):
+        w, th, lap, s = y
+        q = norm * np.exp(-0.5 * ((r - r0) / sig) ** 2)
+        return np.vstack([th, lap - th / r, s, q / d - s / r])
+
+    def bc(ya, yb):
+        return np.array([ya[0], ya[1], yb[2] - yb[1] / a + nu * yb[1] / a, yb[3]])
+
+    r = np.linspace(b, a, 2001)
+    sol = solve_bvp(rhs, bc, r, np.zeros((4, r.size)), tol=1e-8, max_nodes=200000)
+    assert sol.status == 0
+    assert ring_loaded_disc_deflection_m(f, r0, b, a, e, nu, t) == pytest.approx(
+        abs(sol.sol(r0)[0]), rel=2e-3
+    )
+    # Thin-plate scaling: w ∝ 1/(E t³).
+    thick = ring_loaded_disc_deflection_m(f, r0, b, a, e, nu, 2 * t)
+    assert thick == pytest.approx(ring_loaded_disc_deflection_m(f, r0, b, a, e, nu, t) / 8, rel=1e-9)
+
+
+def test_what_holds_a_magnet_by_hand():
+    # Pull out: the attraction shared among a disc's magnets; fling: m ω² r at max_rpm; the
+    # bond over the magnet's face carries the pull on a non-steel disc.
+    d = design("millrace", ("rotor.disc_material", "aluminium"), ("rotor.magnet_bond_mpa", 2.0))
+    f, mg = d.forces, d.spec.magnets
+    assert f.magnet_pull_out_n == pytest.approx(f.axial_force_n / mg.count)
+    w = d.spec.target.max_rpm * 2 * math.pi / 60
+    assert f.magnet_fling_n == pytest.approx(f.magnet_mass_g / 1000 * w**2 * mg.pitch_radius_mm / 1000)
+    assert f.bond_safety_factor == pytest.approx(2.0 * mg.length_mm * mg.width_mm / f.magnet_pull_out_n)
+
+
+def test_a_saturated_disc_limits_the_emf_to_what_its_section_carries():
+    # Flux-limited: past B_s the plate carries B_s over its section, so the EMF per turn is
+    # B_s/B of the ideal-steel figure; an unsaturated plate changes nothing.
+    from layout.materials import STEEL_SATURATION_T
+
+    full, thin = design("millrace"), design("millrace", ("rotor.disc_thickness_mm", 3.0))
+    assert full.prediction.saturation_derate == 1.0
+    ratio = STEEL_SATURATION_T / thin.forces.steel_peak_b_t
+    assert thin.prediction.saturation_derate == pytest.approx(ratio)
+    per_turn = lambda d: d.prediction.open_circuit_line_rms_v / d.prediction.turns_per_coil  # noqa: E731
+    ideal = design("millrace", ("rotor.disc_thickness_mm", 8.0))  # same field where unsaturated
+    assert per_turn(thin) == pytest.approx(per_turn(ideal) * ratio, rel=0.05)
+    assert "limits the flux" in next(w.message for w in thin.warnings if w.code == "steel.saturation")

@@ -34,6 +34,9 @@ ALL_CODES = {
     "coils.as_built_short",
     "disc.softening",
     "coil.wire_eddy",
+    "disc.bending",
+    "magnet.retention",
+    "disc.printed_care",
     "rotor.spinning",
 }
 ACTION_VERBS = (
@@ -63,6 +66,14 @@ VARIANTS = [
     ("millrace", ("rotor.topology", "one_disc_coreless")),
     ("millrace", ("rotor.disc_material", "pla"), ("target.rated_rpm", 450.0)),  # printed, hot
     ("pedalbox", ("target.rated_rpm", 900.0), ("target.max_rpm", 1200.0)),  # thick wire, fast
+    ("millrace", ("rotor.disc_material", "pla"), ("rotor.disc_thickness_mm", 4.0)),  # a soft, thin disc
+    # a weak bond on discs that do not hold the magnets by their own pull
+    (
+        "millrace",
+        ("rotor.disc_material", "aluminium"),
+        ("rotor.magnet_bond_mpa", 0.1),
+        ("rotor.running_clearance_mm", 1.0),
+    ),
 ]
 
 

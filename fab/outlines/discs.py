@@ -29,6 +29,7 @@ from layout.rotor import (
     balance_positions,
     disc_count,
     disc_thickness_mm,
+    hub_bolt_radius_mm,
     is_plain_disc,
     is_steel_disc,
     magnet_footprint_half_mm,
@@ -75,11 +76,7 @@ class DiscLayout:
     balance_screw: str
 
 
-def hub_radius_mm(spec: Spec) -> float:
-    ro = spec.rotor
-    if ro.hub_bolt_circle_mm is not None:
-        return ro.hub_bolt_circle_mm / 2
-    return (ro.bore_diameter_mm + 3 * ro.hub_hole_diameter_mm) / 2
+hub_radius_mm = hub_bolt_radius_mm  # the rule lives with the rotor (layout.rotor)
 
 
 def jacking(design: Design) -> Jacking | None:
