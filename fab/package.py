@@ -410,7 +410,7 @@ def _write_manifest(design: Design, items: list[Item], infos: dict, tmp: Path, d
             "running_clearance_mm": assembly.get("running_clearance_mm"),
             "design_running_clearance_mm": spec.rotor.running_clearance_mm,
         },
-        "warnings": [{"code": w.code, "severity": w.severity} for w in design.warnings],
+        "warnings": [{"code": w.code, "severity": w.severity, "message": w.message} for w in design.warnings],
         "files": files,
     }
     from fab.report import to_json
