@@ -280,7 +280,24 @@ def collect_warnings(
             f"{rated.rpm:g} rpm into the target's load, not the {ta.voltage_v:g} V asked: expect "
             f"{rated.dc_power_w:.0f} W there, or raise the speed.",
         )
-    if rated.efficiency < 0.7 and rated.dc_power_w > 0:
+    if ta.kind == "battery" and pred.cut_in_rpm >= rated.rpm:
+        add(
+            "output.below_cut_in",
+            "warning",
+            f"At the rated {rated.rpm:g} rpm the machine is below its cut-in of {pred.cut_in_rpm:.0f} rpm: "
+            + (
+                f"it charges nothing at any speed up to the highest {ta.max_rpm:g} rpm. "
+                if pred.cut_in_rpm >= ta.max_rpm
+                else f"it charges nothing there, and at most {max(op.dc_power_w for op in pred.curve):.0f} W "
+                f"by {ta.max_rpm:g} rpm. "
+            )
+            + (
+                "More turns (coils.turns_per_coil) bring the cut-in down."
+                if "turns_per_coil" in spec.coils_given
+                else "Set target.cut_in_rpm below the rated speed."
+            ),
+        )
+    if rated.efficiency < 0.7 and rated.dc_power_w > 1e-3 and pred.cut_in_rpm < rated.rpm:
         # Into a battery the winding's EMF is about cut-in/rpm of what it would be at the
         # battery voltage, so the efficiency cannot much exceed that ratio whatever the wire.
         why = (
@@ -322,7 +339,7 @@ def collect_warnings(
             f"{rated.steel_loss_w / rated.shaft_power_w:.0%} of the shaft input (a rough estimate): "
             "it drags on the rotor and heats the stator.",
         )
-    if rated.conductor_eddy_w > WIRE_EDDY_SHARE * max(rated.copper_loss_w, 1e-9) and rated.copper_loss_w > 0:
+    if rated.conductor_eddy_w > WIRE_EDDY_SHARE * max(rated.copper_loss_w, 1e-9) and rated.dc_power_w > 1e-3:
         add(
             "coil.wire_eddy",
             "warning",

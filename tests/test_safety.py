@@ -37,6 +37,7 @@ ALL_CODES = {
     "disc.bending",
     "magnet.retention",
     "disc.printed_care",
+    "output.below_cut_in",
     "rotor.spinning",
 }
 ACTION_VERBS = (
@@ -66,6 +67,7 @@ VARIANTS = [
     ("millrace", ("rotor.topology", "one_disc_coreless")),
     ("millrace", ("rotor.disc_material", "pla"), ("target.rated_rpm", 450.0)),  # printed, hot
     ("pedalbox", ("target.rated_rpm", 900.0), ("target.max_rpm", 1200.0)),  # thick wire, fast
+    ("millrace", ("coils.turns_per_coil", 40)),  # coils as built too few: cut-in past rated
     ("millrace", ("rotor.disc_material", "pla"), ("rotor.disc_thickness_mm", 4.0)),  # a soft, thin disc
     # a weak bond on discs that do not hold the magnets by their own pull
     (
@@ -235,3 +237,15 @@ def test_coils_as_built_short_of_the_target_say_what_they_give():
     w = next(w for w in d.warnings if w.code == "coils.as_built_short")
     assert f"{d.prediction.rated.dc_voltage_v:.1f} V" in w.message
     assert d.prediction.rated.dc_voltage_v < d.spec.target.voltage_v
+
+
+def test_no_warning_quotes_a_nonsense_share():
+    # A share of a loss or a bound is a figure a builder reads: never past 1000 %, never a
+    # ratio to nothing (a machine below cut-in has no output to take a share of).
+    for w in every_warning():
+        for pct in re.findall(r"(\d+(?:\.\d+)?)%", w.message):
+            assert float(pct) <= 1000, (w.code, w.message)
+    d = design("millrace", ("coils.turns_per_coil", 40))
+    found = {w.code for w in d.warnings}
+    assert "output.below_cut_in" in found
+    assert not found & {"output.low_efficiency", "coil.wire_eddy"}
