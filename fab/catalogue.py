@@ -258,10 +258,16 @@ def rotor_items(design: Design) -> list[Item]:
             )
         elif mat.printed:
             make = "print"
-            how = "print magnet side up, solid infill; put each magnet in its pocket with the marked face up"
+            how = (
+                "print magnet side up, solid infill; glue each magnet into its pocket with two-part "
+                "epoxy, the marked face up, and let it cure fully before the first spin"
+            )
         else:
             make = "cut"
-            how = f"cut along CUT, mill the POCKET outlines {lay.pocket_depth_mm:g} mm deep; {tapped}"
+            how = (
+                f"cut along CUT, mill the POCKET outlines {lay.pocket_depth_mm:g} mm deep; {tapped}; "
+                "glue each magnet into its pocket, the marked face up, and let it cure"
+            )
         if jack is not None and jack.on == "disc 2" and disc == 2:
             how += f"; tap the {jack.screw} jacking screw holes"
         disc_solid = _step(lambda b, d=disc: b.disc(d))
