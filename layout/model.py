@@ -491,26 +491,28 @@ def _evaluate(
     shaft = src + steel_w + eddy_w + mech_w
     eff = np.where(shaft > 1e-9, dc_p / np.maximum(shaft, 1e-12), 0.0)
     density = i_ph / layout.parallel_paths / wire.copper_mm2
+    columns = {
+        "rpm": rpms,
+        "dc_voltage_v": dc_v,
+        "dc_current_a": dc_i,
+        "dc_power_w": dc_p,
+        "copper_loss_w": cu_w,
+        "rectifier_loss_w": rect_w,
+        "efficiency": eff,
+        "phase_current_rms_a": i_ph,
+        "current_density_a_mm2": density,
+        "coil_temperature_c": temps,
+        "open_circuit_line_rms_v": line_rms_per * _omega(rpms),
+        "loop_loss_w": loop_w,
+        "steel_loss_w": steel_w,
+        "shaft_power_w": shaft,
+        "magnet_temperature_c": magnet_c,
+        "conductor_eddy_w": eddy_w,
+        "mechanical_w": mech_w,
+    }
     curve = tuple(
         OperatingPoint(
-            rpm=float(rpms[k]),
-            dc_voltage_v=float(dc_v[k]),
-            dc_current_a=float(dc_i[k]),
-            dc_power_w=float(dc_p[k]),
-            copper_loss_w=float(cu_w[k]),
-            rectifier_loss_w=float(rect_w[k]),
-            efficiency=float(eff[k]),
-            phase_current_rms_a=float(i_ph[k]),
-            current_density_a_mm2=float(density[k]),
-            coil_temperature_c=float(temps[k]),
-            open_circuit_line_rms_v=float(line_rms_per * _omega(rpms[k])),
-            temperature_over_cap=bool(over[k]),
-            loop_loss_w=float(loop_w[k]),
-            steel_loss_w=float(steel_w[k]),
-            shaft_power_w=float(shaft[k]),
-            magnet_temperature_c=float(magnet_c[k]),
-            conductor_eddy_w=float(eddy_w[k]),
-            mechanical_w=float(mech_w[k]),
+            **{name: float(col[k]) for name, col in columns.items()}, temperature_over_cap=bool(over[k])
         )
         for k in range(len(rpms))
     )
