@@ -26,6 +26,7 @@ from dataclasses import dataclass
 
 from layout.design import Design, compute_design
 from layout.forces import STEEL_DISC_NAME
+from layout.geometry import magnet_limit_c
 from layout.materials import DISC_MATERIALS, MAGNET_GRADES
 from layout.spec import DesignError, Spec, with_values
 
@@ -94,13 +95,6 @@ def _rated(d: Design):
     return d.prediction.rated
 
 
-def _magnet_limit_c(spec: Spec) -> float:
-    mg = spec.magnets
-    if mg.max_temperature_c:
-        return mg.max_temperature_c
-    return MAGNET_GRADES[mg.grade].max_temperature_c if mg.grade else 80.0
-
-
 def _softening_c(spec: Spec) -> float:
     """Where the rotor discs' material starts to creep; a metal's far above any coil."""
     return DISC_MATERIALS[spec.rotor.disc_material].softening_c or 1000.0
@@ -121,8 +115,8 @@ FIGURES: dict[str, _Figure] = {
         "°C", lambda d: _rated(d).coil_temperature_c, -1, 1.0, "coils ", lambda d: _temperature(_rated(d))
     ),
     "magnet.temperature": _Figure(
-        "K", lambda d: _rated(d).magnet_temperature_c - _magnet_limit_c(d.spec), -1, 1.0, "",
-        lambda d: f"magnets {_rated(d).magnet_temperature_c:.0f} °C, rated to {_magnet_limit_c(d.spec):g} °C",
+        "K", lambda d: _rated(d).magnet_temperature_c - magnet_limit_c(d.spec), -1, 1.0, "",
+        lambda d: f"magnets {_rated(d).magnet_temperature_c:.0f} °C, rated to {magnet_limit_c(d.spec):g} °C",
     ),
     "output.low_efficiency": _Figure(
         "%", lambda d: 100 * _rated(d).efficiency, +1, 1.0, "efficiency ",

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from layout.materials import DISC_MATERIALS, MAGNET_GRADES
+from layout.materials import DISC_MATERIALS, MAGNET_GRADES, MagnetGrade
 from layout.spec import Spec, magnet_radial_extent_mm, magnet_tangential_extent_mm
 
 MIN_LEG_WIDTH_MM = 2.0  # narrower legs cannot be wound with a useful number of turns
@@ -89,6 +89,24 @@ def remanence_t(spec: Spec) -> float:
     return mg.remanence_t if mg.remanence_t is not None else MAGNET_GRADES[mg.grade].remanence_t
 
 
+def magnet_family(spec: Spec) -> MagnetGrade:
+    """The grade whose properties stand for the magnets: the named grade, else for a bare
+    remanence_t NdFeB above 0.8 T and hard ferrite below (layout.materials)."""
+    mg = spec.magnets
+    if mg.grade:
+        return MAGNET_GRADES[mg.grade]
+    return MAGNET_GRADES["N35" if (mg.remanence_t or 1.0) >= 0.8 else "Y30"]
+
+
+def magnet_limit_c(spec: Spec) -> float:
+    """The highest temperature the magnets take: the design's, else the grade's, else 80 °C
+    (plain NdFeB, layout.materials)."""
+    mg = spec.magnets
+    if mg.max_temperature_c:
+        return mg.max_temperature_c
+    return MAGNET_GRADES[mg.grade].max_temperature_c if mg.grade else 80.0
+
+
 def magnet_air_gap_mm(spec: Spec) -> float | None:
     """The air each magnet drives its flux across to steel (mm): half the gap between facing
     magnets of two discs, the whole gap to a steel face opposite one disc; None where no
@@ -111,12 +129,7 @@ def recoil_factor(spec: Spec) -> float:
     so the ratio is (t + g)/(t + μ_rec·g). Without steel opposite, the magnet's own
     demagnetising factor is taken as 1: the ratio 1/μ_rec."""
     mg = spec.magnets
-    grade = (
-        MAGNET_GRADES[mg.grade]
-        if mg.grade
-        else MAGNET_GRADES["N35" if (mg.remanence_t or 1) >= 0.8 else "Y30"]
-    )
-    mu = grade.recoil_permeability
+    mu = magnet_family(spec).recoil_permeability
     gap = magnet_air_gap_mm(spec)
     if gap is None:
         return 1 / mu

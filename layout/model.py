@@ -14,7 +14,7 @@ import numpy as np
 from layout.circuit import BridgeRating, Load, bridge_rating, simulate_rectifier
 from layout.emf import FluxMap, PhaseEmf, rms, thd
 from layout.forces import disc_outer_radius_mm
-from layout.geometry import Geometry
+from layout.geometry import Geometry, magnet_family
 from layout.losses import bearing_w, conductor_eddy_w, windage_w
 from layout.materials import COPPER_DENSITY_G_CM3, MAGNET_GRADES
 from layout.rotor import rotor_discs
@@ -93,10 +93,7 @@ def settle_temperature(loss_w, ambient_c: float, conductance_w_k, n: int):
 def magnet_br_coefficient_per_k(spec: Spec) -> float:
     """Reversible temperature coefficient of Br (1/K): the grade's; for a bare remanence_t,
     NdFeB's above 0.8 T and hard ferrite's below (layout.materials)."""
-    mg = spec.magnets
-    if mg.grade:
-        return MAGNET_GRADES[mg.grade].br_temp_coeff_per_k
-    return MAGNET_GRADES["N35" if mg.remanence_t >= 0.8 else "Y30"].br_temp_coeff_per_k
+    return magnet_family(spec).br_temp_coeff_per_k
 
 
 def magnet_br_span(spec: Spec) -> tuple[float, float]:

@@ -9,7 +9,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from layout.forces import HOOP_SAFETY_FACTOR, JACKING_FORCE_N, STEEL_B_LIMIT_T, Forces, G
-from layout.materials import DISC_MATERIALS, MAGNET_GRADES, STATOR_BINDERS_MAX_C
+from layout.geometry import magnet_limit_c
+from layout.materials import DISC_MATERIALS, STATOR_BINDERS_MAX_C
 from layout.model import Prediction
 from layout.spec import Spec, unit_slip_hint
 from layout.winding import Layout
@@ -148,9 +149,7 @@ def collect_warnings(
             f"the {limit:g} A/mm² rule of thumb for {'cast' if cast else 'open'} coils: they run "
             "hot.",
         )
-    grade_max = spec.magnets.max_temperature_c or (
-        MAGNET_GRADES[spec.magnets.grade].max_temperature_c if spec.magnets.grade else 80.0
-    )
+    grade_max = magnet_limit_c(spec)
     if hot.magnet_temperature_c > grade_max:
         add(
             "magnet.temperature",
