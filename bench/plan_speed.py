@@ -37,7 +37,7 @@ def compute_only(design: Path, runs: int) -> float:
     """Load, compute and render in a process that has already imported everything."""
     code = f"""
 import statistics, time, json
-import magpylib.core  # imports are not part of this figure
+import layout.field  # imports are not part of this figure
 from fab.report import plan_json, plan_text
 from layout.design import compute_design
 from layout.spec import load_spec

@@ -79,8 +79,8 @@ def flux_map(geo: Geometry, magnets: int) -> FluxMap:
     Grid: radial cells of about `RADIAL_CELL_MM` (at least 8) × `FIELD_SAMPLES_PER_POLE`
     angles centred on magnet 1, at `Z_NODES` Gauss–Legendre planes between the coil's faces
     (exact for a cubic variation through the thickness; Abramowitz & Stegun 25.4.29). The
-    field is that of every magnet and its steel images (`layout.field`: magpylib kernels,
-    Yang 1990, Engel-Herbert 2005), with the image orders and far magnets chosen at probe
+    field is that of every magnet and its steel images (`layout.field`: closed-form
+    kernels, Yang 1990, Derby & Olbert 2010), with the image orders and far magnets chosen at probe
     points so each omission changes Bz there by < 1e-4. A machine symmetric about z = 0
     evaluates half the planes. Lengths in mm, field in T; `peak_bz_t` is the largest |Bz|.
     """

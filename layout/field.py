@@ -1,12 +1,13 @@
 """Axial flux density of the rotor magnets, with steel plates by the method of images.
 
-magpylib's closed-form kernels give the exact field of uniformly magnetised blocks and
-discs (charge-sheet solutions: Yang 1990, Engel-Herbert 2005 for blocks; Derby 2010 for
-axially magnetised cylinders). A steel plate of very high permeability is replaced by the
-mirror image of every magnet in its surface with the magnetisation normal to the plate
-kept (method of images); two parallel plates give an image series of period twice their
-spacing, truncated where the field has converged (see `image_sources`). This assumes
-unsaturated steel; `forces.py` checks the plates' flux density.
+Closed-form kernels (`layout.kernels`) give the exact field of uniformly magnetised blocks
+and discs (charge-sheet solutions: Akoun & Yonnet 1984, Yang 1990 for blocks; Derby &
+Olbert 2010 for axially magnetised cylinders), checked against magpylib in the tests. A
+steel plate of very high permeability is replaced by the mirror image of every magnet in
+its surface with the magnetisation normal to the plate kept (method of images); two
+parallel plates give an image series of period twice their spacing, truncated where the
+field has converged (see `image_sources`). This assumes unsaturated steel; `forces.py`
+checks the plates' flux density.
 
 Lengths in mm (the kernels depend only on ratios), flux density in T.
 """
@@ -17,6 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from layout import kernels
 from layout.geometry import Geometry
 
 CONVERGENCE_REL = 1e-4  # image series stops when another order changes Bz by less
@@ -91,8 +93,6 @@ def _with_images(real: Sources, planes: tuple[float, ...], order: int) -> Source
 
 def _bz_block(sources: Sources, idx: np.ndarray, pts: np.ndarray, is_block: bool) -> np.ndarray:
     """Bz (T) of sources `idx` (all of one shape) at points: (len(idx), len(pts))."""
-    import magpylib.core as kernels  # loaded on first use: the layout-only path skips it
-
     rel = pts[None, :, :] - sources.center_mm[idx, None, :]
     c = np.cos(sources.rotation_rad[idx])[:, None]
     s = np.sin(sources.rotation_rad[idx])[:, None]
@@ -100,18 +100,12 @@ def _bz_block(sources: Sources, idx: np.ndarray, pts: np.ndarray, is_block: bool
     y = -s * rel[..., 0] + c * rel[..., 1]
     zz = rel[..., 2]
     if is_block:
-        obs = np.stack([x, y, zz], axis=-1).reshape(-1, 3)
-        dim = np.broadcast_to(sources.dimension_mm[idx, None, :], x.shape + (3,)).reshape(-1, 3)
-        pol = np.zeros_like(obs)
-        pol[:, 2] = 1.0
-        b = kernels.magnet_cuboid_Bfield(obs, dim, pol)[:, 2]
+        b = kernels.block_bz(x, y, zz, sources.dimension_mm[idx, None, :])
     else:
         radius = sources.dimension_mm[idx, 0][:, None] / 2
         half_h = sources.dimension_mm[idx, 1][:, None] / 2
-        r = np.hypot(x, y) / radius
-        z0 = np.broadcast_to(half_h / radius, r.shape)
-        b = kernels.magnet_cylinder_axial_Bfield(z0.ravel(), r.ravel(), (zz / radius).ravel())[2]
-    return b.reshape(x.shape) * sources.polarization_t[idx][:, None]
+        b = kernels.disc_bz(np.hypot(x, y) / radius, zz / radius, half_h / radius)
+    return b * sources.polarization_t[idx][:, None]
 
 
 def _chunks(sources: Sources, n_pts: int):
