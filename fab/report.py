@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 from collections.abc import Sequence
@@ -295,7 +296,144 @@ def plan_json(design: Design) -> dict:
         "magnetics": magnetics_json(design),
         "geometry": geometry_json(design),
         "warnings": [_warning_json(design, w) for w in design.warnings],
+        **source_json(design),
     }
+
+
+_CONDITION_UNIT = {"wind_m_s": "m/s", "flow_l_s": "l/s", "effort_w": "W effort"}
+
+
+def source_json(design: Design) -> dict:
+    """`source`, `operating`, `energy` and `runaway_rpm` where a [source] drives the machine;
+    nothing otherwise."""
+    op = design.operating
+    if op is None:
+        return {}
+    src = op.source
+    resolved = {f.name: getattr(src.spec, f.name) for f in dataclasses.fields(src.spec)}
+    if resolved["cp_curve"] is not None:
+        resolved["cp_curve"] = [list(p) for p in resolved["cp_curve"]]
+    resolved["drive_efficiency"] = src.drive_efficiency
+    if src.turbine_efficiency is not None:
+        resolved["turbine_efficiency"] = src.turbine_efficiency
+    rows = []
+    for r in op.rows:
+        row = {src.condition_key: _r(r.condition, 3)}
+        if src.kind in ("pedal", "crank"):
+            row["cadence_rpm"] = _r(r.rpm / src.spec.drive_ratio, 1)
+        row |= {
+            "rpm": _r(r.rpm, 1),
+            "tsr": _r(r.tsr, 3) if r.tsr is not None else None,
+            "cp": _r(r.cp, 4) if r.cp is not None else None,
+            "available_w": _r(r.available_w, 1),
+            "source_power_w": _r(r.source_power_w, 2),
+            "output_power_w": _r(r.output_power_w, 2),
+            "load_power_w": _r(r.load_power_w, 2),
+            "efficiency": _r(r.efficiency, 4),
+            "stalled": r.stalled,
+        }
+        rows.append(row)
+    return {
+        "source": resolved,
+        "operating": rows,
+        "energy": {k: _r(v, 4) for k, v in op.energy.items()},
+        "runaway_rpm": _r(op.runaway_rpm, 1),
+        "cut_in_condition": _r(op.cut_in_condition, 3) if op.cut_in_condition is not None else None,
+        "stall_wind_m_s": op.stall_wind_m_s,
+        "given_max_rpm": design.given_max_rpm,
+    }
+
+
+def energy_words(design: Design) -> str:
+    """The energy figure in a sentence, for the plan and the sheet."""
+    op = design.operating
+    so, e = op.source.spec, op.energy
+    if op.source.kind == "wind":
+        return (
+            f"about {e['annual_kwh']:.0f} kWh a year at a mean wind of {so.mean_wind_m_s:g} m/s "
+            f"(Weibull k = {so.weibull_k:g}; method of bins, IEC 61400-12-1), capacity factor "
+            f"{e['capacity_factor']:.0%} of the most this table delivers"
+        )
+    if op.source.kind == "water":
+        return f"about {e['kwh_per_day']:.1f} kWh a day at {so.flow_l_s:g} l/s"
+    return f"about {e['wh_per_hour']:.0f} Wh for each hour at a comfortable {so.sustained_power_w:g} W effort"
+
+
+def _source_text(design: Design) -> str:
+    op = design.operating
+    src = op.source
+    key = src.condition_key
+    wind = src.kind == "wind"
+    cable = src.spec.cable_length_m > 0
+    person = src.kind in ("pedal", "crank")
+    headings = [
+        key,
+        *(["cadence_rpm"] if person else []),
+        "rpm",
+        *(["tsr", "cp"] if wind else []),
+        "source_w",
+        "output_w",
+        *(["battery_w"] if cable else []),
+        "efficiency",
+        "coil_c",
+        "",
+    ]
+    furl = src.spec.furl_wind_m_s if wind else None
+    shown = [r for r in op.rows if furl is None or r.condition <= furl]
+    rows = []
+    for r in shown:
+        pt = r.point
+        coil = (
+            ""
+            if pt is None
+            else (f">{TEMPERATURE_CAP_C:g}" if pt.temperature_over_cap else f"{pt.coil_temperature_c:.0f}")
+        )
+        rows.append(
+            [
+                f"{r.condition:g}",
+                *([f"{r.rpm / src.spec.drive_ratio:.0f}"] if person else []),
+                int(round(r.rpm)),
+                *([f"{r.tsr:.1f}", f"{r.cp:.2f}"] if wind else []),
+                f"{r.source_power_w:.1f}",
+                f"{r.output_power_w:.1f}",
+                *([f"{r.load_power_w:.1f}"] if cable else []),
+                f"{r.efficiency:.0%}",
+                coil,
+                "stalls" if r.stalled else "",
+            ]
+        )
+    if len(shown) < len(op.rows):
+        last = op.rows[-1].condition
+        first = op.rows[len(shown)].condition
+        rows.append(
+            [
+                f"{first:g}–{last:g}",
+                f"furled: as at {shown[-1].condition:g}",
+                *([""] * (len(headings) - 3)),
+                "",
+            ]
+        )
+    title = {
+        "wind": "Where it runs in each wind (steady speed: the blades' power meets the alternator's)",
+        "water": "Where it runs at each flow (steady speed on the turbine's torque line)",
+    }.get(src.kind, "Where it runs at each effort (steady cadence on the rider's torque line)")
+    lines = [table(headings, rows, title)]
+    unit = _CONDITION_UNIT[key]
+    if op.cut_in_condition is not None:
+        lines.append(f"Output starts at {op.cut_in_condition:g} {unit}.")
+    if op.stall_wind_m_s is not None:
+        lines.append(
+            f"From {op.stall_wind_m_s:g} m/s the alternator holds the blades well below "
+            "their best tip-speed ratio (stall)."
+        )
+    lines.append(f"Energy: {energy_words(design)}.")
+    lines.append(f"Runaway: {op.runaway_rpm:.0f} rpm with no load, {src.runaway_condition}.")
+    if design.given_max_rpm is not None:
+        lines.append(
+            f"That is above target.max_rpm = {design.given_max_rpm:g}: every check in this plan "
+            f"is made at {design.spec.target.max_rpm:g} rpm."
+        )
+    return "\n".join(lines)
 
 
 def _suggestion_json(s) -> dict:
@@ -371,6 +509,8 @@ def plan_text(design: Design) -> str:
         out.append("")
         out.extend(f"note: {n}" for n in design.layout_notes)
     out += ["", _winding_text(design), "", _output_text(design), "", _magnetics_text(design)]
+    if design.operating is not None:
+        out += ["", _source_text(design)]
     out += ["", _warnings_text(design)]
     return "\n".join(out)
 

@@ -150,7 +150,26 @@ FIGURES: dict[str, _Figure] = {
         "T", lambda d: d.forces.steel_peak_b_t or 0.0, -1, 0.01, "steel ",
         lambda d: f"{d.forces.steel_peak_b_t or 0.0:.2f} T",
     ),
+    "source.stall": _Figure(
+        "m/s", lambda d: _stall_wind(d), +1, 0.5, "", lambda d: _stall_words(d),
+    ),
 }  # fmt: skip
+
+NO_STALL_M_S = 26.0  # past the operating table's last wind: the blades never stall
+
+
+def _stall_wind(d: Design) -> float:
+    op = d.operating
+    return NO_STALL_M_S if op is None or op.stall_wind_m_s is None else op.stall_wind_m_s
+
+
+def _stall_words(d: Design) -> str:
+    op = d.operating
+    if op is None:
+        return "no source"
+    kwh = op.energy.get("annual_kwh", 0.0)
+    where = "no stall" if op.stall_wind_m_s is None else f"stalls from {op.stall_wind_m_s:g} m/s"
+    return f"{where}, {kwh:.0f} kWh a year"
 
 
 def _up(x: float, factor: float, step: float = 1.0) -> float:
@@ -171,6 +190,21 @@ def _more_copper(design: Design) -> Iterable[tuple[str, object]]:
             yield "stator.fill_factor", ff
             break
     yield "magnets.thickness_mm", _up(mg.thickness_mm, 1.5)
+
+
+def _rematch(design: Design) -> Iterable[tuple[str, object]]:
+    """Where the alternator's load line meets the blades' power: a later cut-in lets the rotor
+    gather speed before it is loaded, an earlier one loads it sooner but less steeply (the
+    torque's slope above cut-in goes as 1/turns); which wins is the model's to say. The other
+    connection changes the turns the same cut-in needs."""
+    spec = design.spec
+    ta = spec.target
+    if ta.kind == "battery":
+        yield from _higher_cut_in(design)
+        yield "target.cut_in_rpm", _down(ta.cut_in_rpm, 0.85, 5.0)
+    swap = {"star": "delta", "delta": "star"}.get(spec.connection.kind)
+    if swap:
+        yield "connection.kind", swap
 
 
 def _higher_cut_in(design: Design) -> Iterable[tuple[str, object]]:
@@ -276,6 +310,7 @@ CANDIDATES: dict[str, tuple[Callable[[Design], Iterable[tuple[str, object]]], ..
     "disc.softening": (_stronger_disc, _more_copper),
     "coil.wire_eddy": (_thinner_strands,),
     "disc.bending": (_stiffer_disc,),
+    "source.stall": (_rematch,),
 }
 
 
@@ -301,6 +336,8 @@ def suggest(
     used by several warnings is computed once.
     """
     spec = design.spec
+    if design.given_max_rpm is not None:  # re-run each change on the file's own figures
+        spec = with_values(spec, (("target.max_rpm", design.given_max_rpm),))
     tried: dict[tuple, Design | None] = {}
     out: list[Suggestion] = []
     before_codes = {w.code for w in design.warnings}

@@ -13,9 +13,11 @@ from layout.forces import Forces, compute_forces
 from layout.geometry import Geometry, resolve_geometry
 from layout.losses import rotor_mass_kg
 from layout.materials import STEEL_SATURATION_T
-from layout.model import Prediction, predict
+from layout.model import Prediction, curve_at, predict
+from layout.operating import Operating, operating_points, source_warnings
 from layout.pairs import balanced_alternatives
 from layout.safety import DELTA_LOOP_SHARE, Warning, collect_warnings
+from layout.source import resolve
 from layout.spec import DesignError, Spec, with_value
 from layout.steel import PlateFlux, plate_flux
 from layout.winding import Layout, layout_notes, span_pitch_factor, star_of_slots
@@ -38,6 +40,10 @@ class Design:
     bill: Bill
     # Changes the model has re-run and found to help (layout.advice); None: not computed.
     suggestions: tuple[Suggestion, ...] | None = None
+    # Where a [source] drives the machine (layout.operating); None without one.
+    operating: Operating | None = None
+    # target.max_rpm as the file gave it, where the source's runaway raised it for the checks.
+    given_max_rpm: float | None = None
 
     def suggestions_for(self, code: str) -> tuple[Suggestion, ...]:
         return tuple(s for s in self.suggestions or () if s.code == code)
@@ -126,8 +132,24 @@ def _as_star(
         return None
 
 
+MAX_RPM_LIMIT = 20000  # target.max_rpm's bound
+
+
 def compute_design(spec: Spec) -> Design:
-    """Layout, field, EMF, winding and output, forces and warnings for one design."""
+    """Layout, field, EMF, winding and output, forces and warnings for one design.
+
+    With a [source] whose runaway speed exceeds target.max_rpm, every check is made at the
+    runaway speed instead: the machine is computed with target.max_rpm raised to it, and
+    `given_max_rpm` keeps the file's figure."""
+    if spec.source is not None:
+        runaway = resolve(spec.source).runaway_rpm
+        if runaway > spec.target.max_rpm:
+            raised = with_value(spec, "target.max_rpm", float(min(math.ceil(runaway), MAX_RPM_LIMIT)))
+            return _compute(raised, given_max_rpm=spec.target.max_rpm)
+    return _compute(spec)
+
+
+def _compute(spec: Spec, given_max_rpm: float | None = None) -> Design:
     lay = winding_layout(spec)
     geo = resolve_geometry(spec, tuple(c.index for c in lay.coils))
     fmap = flux_map(geo, spec.magnets.count)
@@ -140,9 +162,16 @@ def compute_design(spec: Spec) -> Design:
     if derate < 1:
         emf = scaled_emf(emf, derate)
     pred = dataclasses.replace(predict(spec, geo, lay, emf, plate, **losses), saturation_derate=derate)
+    operating = None
+    if spec.source is not None:
+
+        def evaluate(rpms):
+            return curve_at(spec, geo, lay, emf, pred, rpms, plate, **losses)
+
+        operating = operating_points(resolve(spec.source), evaluate, spec.target.max_rpm)
     warnings = collect_warnings(
         spec, lay, pred, forces, _as_star(spec, geo, lay, link, pred, plate, **losses)
-    )
+    ) + source_warnings(operating, spec.target.max_rpm, given_max_rpm, spec.stator.binder)
     return Design(
         spec=spec,
         layout=lay,
@@ -160,4 +189,6 @@ def compute_design(spec: Spec) -> Design:
         forces=forces,
         warnings=tuple(warnings),
         bill=materials_bill(spec, geo, pred, lay.phases),
+        operating=operating,
+        given_max_rpm=given_max_rpm,
     )

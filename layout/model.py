@@ -18,6 +18,7 @@ from layout.geometry import Geometry, magnet_family
 from layout.losses import bearing_w, conductor_eddy_w, windage_w
 from layout.materials import COPPER_DENSITY_G_CM3, MAGNET_GRADES
 from layout.rotor import rotor_discs
+from layout.source import cable_resistance_ohm
 from layout.spec import Spec, unit_slip_hint
 from layout.steel import PlateFlux
 from layout.thermal import stator_heat_paths
@@ -231,11 +232,12 @@ def as_built_wire(spec: Spec) -> Wire | None:
     return Wire(f"{c.wire_diameter_mm:g} mm", c.wire_diameter_mm, c.strands_in_hand)
 
 
-def _copper(spec: Spec, geo: Geometry, layout: Layout, turns: int):
-    """Wire, R at 20 °C and L of a coil and a phase, for `turns` per coil; None if no wire fits."""
+def _copper(spec: Spec, geo: Geometry, layout: Layout, turns: int, chosen: Wire | None = None):
+    """Wire, R at 20 °C and L of a coil and a phase, for `turns` per coil; None if no wire fits.
+    `chosen`: the wire already picked for these turns."""
     st = spec.stator
     area = st.fill_factor * geo.coil.window_mm2 / turns
-    wire = as_built_wire(spec)
+    wire = chosen or as_built_wire(spec)
     if wire is None:
         wire = choose_wire(area, st.wire_standard, st.max_wire_diameter_mm)
     elif turns * wire.copper_mm2 > MAX_COPPER_FILL * geo.coil.window_mm2:
@@ -364,7 +366,7 @@ def predict(
     if ta.kind == "battery":
         v_cut = ta.battery_v + 2 * vf
         turns = given or max(1, round(v_cut / (per_turn_peak * _omega(ta.cut_in_rpm))))
-        load = Load("battery", ta.battery_resistance_ohm, ta.battery_v)
+        load = Load("battery", ta.battery_resistance_ohm + cable_resistance_ohm(spec.source), ta.battery_v)
         return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only, extra)
     # A loaded target must hold with the coils warm: size at ambient, then again at the
     # coil temperature the rated point reaches, until the rated point meets the target.
@@ -388,13 +390,57 @@ def predict(
     return pred
 
 
+def curve_at(spec: Spec, geo, layout, emf, pred: Prediction, rpms, plate=None, fmap=None, rotor_mass_kg=0.0):
+    """The machine `pred` sized (its turns and wire) evaluated at each of `rpms` (> 0), with
+    the coils at each point's steady temperature: the points a source drives it at."""
+    ta = spec.target
+    vf = ta.diode_drop_v
+    if ta.kind == "battery":
+        v_cut = ta.battery_v + 2 * vf
+        load = Load("battery", ta.battery_resistance_ohm + cable_resistance_ohm(spec.source), ta.battery_v)
+    elif ta.kind == "dc":
+        v_cut = ta.voltage_v + 2 * vf
+        load = Load("resistor", ta.voltage_v / ta.rated_current_a)
+    else:
+        v_cut, load = ta.voltage_v * math.sqrt(2), None
+    extra = (fmap, rotor_mass_kg)
+    at = np.asarray(rpms, dtype=float)
+    return _evaluate(
+        spec,
+        geo,
+        layout,
+        emf,
+        pred.turns_per_coil,
+        v_cut,
+        load,
+        _rectified_peak_per_turn(emf),
+        plate,
+        extra=extra,
+        at_rpm=at,
+        wire=pred.wire,
+    ).curve
+
+
 def _evaluate(
-    spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only=False, extra=(None, 0.0)
+    spec,
+    geo,
+    layout,
+    emf,
+    turns,
+    v_cut,
+    load,
+    per_turn_peak,
+    plate,
+    rated_only=False,
+    extra=(None, 0.0),
+    at_rpm=None,
+    wire=None,
 ) -> Prediction:
-    """Wire, R, L and the output curve for a given number of turns."""
+    """Wire, R, L and the output curve for a given number of turns (at `at_rpm` when given,
+    with `wire` when given: the machine already sized)."""
     ta = spec.target
     star = spec.connection.kind == "star"
-    cu = _copper(spec, geo, layout, turns)
+    cu = _copper(spec, geo, layout, turns, wire)
     if cu is None and as_built_wire(spec) is not None:
         wire = as_built_wire(spec)
         raise spec.fail(
@@ -413,7 +459,10 @@ def _evaluate(
         )
     wire, r_coil, l_coil, r_phase, l_phase = cu
     cut_in = v_cut / (per_turn_peak * turns) * 60 / (2 * math.pi)
-    rpms = np.array([float(ta.rated_rpm)]) if rated_only else _curve_rpms(spec, cut_in)
+    if at_rpm is not None:
+        rpms = np.asarray(at_rpm, dtype=float)
+    else:
+        rpms = np.array([float(ta.rated_rpm)]) if rated_only else _curve_rpms(spec, cut_in)
     ambient = ta.ambient_c
     n_coils = len(layout.coils)
     phases = layout.phases

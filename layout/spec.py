@@ -65,9 +65,11 @@ def rule(
     choices: typing.Iterable[str] | None = None,
     even: bool = False,
     why: str = "",
+    pairs: bool = False,
 ):
-    """A spec field with its allowed range; `why` is appended to range errors."""
-    meta = {"gt": gt, "ge": ge, "le": le, "lt": lt, "even": even, "why": why}
+    """A spec field with its allowed range; `why` is appended to range errors. `pairs`: a
+    list of [x, y] number pairs (a curve)."""
+    meta = {"gt": gt, "ge": ge, "le": le, "lt": lt, "even": even, "why": why, "pairs": pairs}
     meta["choices"] = tuple(choices) if choices is not None else None
     if default is dataclasses.MISSING:
         return field(metadata=meta)
@@ -167,6 +169,44 @@ class TargetSpec:
     ambient_c: float = rule(25.0, ge=-40, le=60)
 
 
+BETZ_LIMIT = 16 / 27  # the most power a rotor in open flow can take from the wind (Betz 1920)
+SOURCE_KINDS = ("wind", "water", "pedal", "crank")
+TURBINES = ("pelton", "turgo", "crossflow", "propeller")
+
+
+@dataclass(frozen=True)
+class SourceSpec:
+    """What turns the alternator (layout.source): blades in the wind, a water turbine, or a
+    person. Keys apply to the kinds named beside them; `_check_consistency` enforces it."""
+
+    kind: str = rule(choices=SOURCE_KINDS)
+    drive_ratio: float = rule(1.0, ge=0.05, le=50, why="alternator rpm per source rpm; 1 for direct drive")
+    drive_efficiency: float | None = rule(None, ge=0.5, le=1)
+    # wind
+    rotor_diameter_m: float | None = rule(None, ge=0.3, le=20)
+    blades: int | None = rule(None, ge=1, le=12)
+    design_tsr: float | None = rule(None, ge=1, le=15, why="the tip-speed ratio of peak Cp")
+    peak_cp: float | None = rule(None, gt=0, le=BETZ_LIMIT, why="the Betz limit is 16/27 = 0.593")
+    cp_curve: tuple[tuple[float, float], ...] | None = rule(None, pairs=True)
+    mean_wind_m_s: float | None = rule(None, ge=0.5, le=20)
+    weibull_k: float = rule(2.0, ge=1, le=5, why="2 is the Rayleigh distribution")
+    air_density_kg_m3: float = rule(1.225, ge=0.6, le=1.5, why="1.225 at sea level, 15 °C")
+    furl_wind_m_s: float | None = rule(None, ge=3, le=60)
+    # the cable from the alternator's rectifier to the battery (two conductors)
+    cable_length_m: float = rule(0.0, ge=0, le=5000)
+    cable_area_mm2: float = rule(2.5, ge=0.2, le=500)
+    # water
+    head_m: float | None = rule(None, ge=0.5, le=1000, why="the net head, in metres")
+    flow_l_s: float | None = rule(None, ge=0.05, le=5000, why="in litres per second")
+    turbine: str | None = rule(None, choices=TURBINES)
+    runner_diameter_mm: float | None = rule(None, ge=20, le=3000, why=_IN_MM)
+    turbine_efficiency: float | None = rule(None, ge=0.1, le=0.95)
+    # pedal or crank
+    cadence_rpm: float | None = rule(None, ge=10, le=200, why="turns of the cranks a minute")
+    sustained_power_w: float | None = rule(None, ge=5, le=2000)
+    peak_power_w: float | None = rule(None, ge=5, le=3000)
+
+
 @dataclass(frozen=True)
 class FabSpec:
     kerf_mm: float = rule(0.0, ge=0, le=5)
@@ -196,14 +236,15 @@ class Spec:
     rotor: RotorSpec
     connection: ConnectionSpec
     target: TargetSpec
-    source: str  # the file name shown in messages
+    file: str  # the file name shown in messages
     fab: FabSpec = field(default_factory=FabSpec)
     coils: CoilsSpec = field(default_factory=CoilsSpec)
     coils_given: tuple[str, ...] = ()  # the [coils] keys the file gave, in its order
+    source: SourceSpec | None = None  # [source]: what turns the shaft; None: the speeds are held
 
     def fail(self, key: str, value: object, allowed: str) -> DesignError:
         """An error about this design's `key` (dotted), for checks made after loading."""
-        return DesignError(self.source, key, value, allowed)
+        return DesignError(self.file, key, value, allowed)
 
 
 _SECTIONS: dict[str, type] = {
@@ -214,8 +255,9 @@ _SECTIONS: dict[str, type] = {
     "target": TargetSpec,
     "fab": FabSpec,
     "coils": CoilsSpec,
+    "source": SourceSpec,
 }
-_OPTIONAL_SECTIONS = ("fab", "coils")  # every key has a default
+_OPTIONAL_SECTIONS = ("fab", "coils", "source")  # every key has a default, or the table is optional
 _TOP_KEYS = ("name", "purpose")
 
 
@@ -234,6 +276,17 @@ def _base_type(annotation: str) -> tuple[type, bool]:
 def _read_value(src: str, key: str, value: object, f: dataclasses.Field):
     kind, _ = _base_type(f.type)
     m = f.metadata
+    if m.get("pairs"):
+        ok = isinstance(value, list) and len(value) >= 2
+        ok = ok and all(
+            isinstance(p, list)
+            and len(p) == 2
+            and all(isinstance(v, int | float) and not isinstance(v, bool) and math.isfinite(v) for v in p)
+            for p in value
+        )
+        if not ok:
+            raise DesignError(src, key, value, "must be a list of at least two [x, y] number pairs")
+        return tuple((float(a), float(b)) for a, b in value)
     if kind is tuple:
         if not isinstance(value, list) or not all(
             isinstance(v, int) and not isinstance(v, bool) for v in value
@@ -314,7 +367,7 @@ def parse_spec(data: dict, source: str) -> Spec:
             raise DesignError(source, f"[{section}]", None, "required table")
         sections[section] = _read_section(source, section, data[section], cls)
     given = tuple(data["coils"]) if isinstance(data.get("coils"), dict) else ()
-    spec = Spec(name=data["name"], purpose=data["purpose"], source=source, coils_given=given, **sections)
+    spec = Spec(name=data["name"], purpose=data["purpose"], file=source, coils_given=given, **sections)
     _check_consistency(spec)
     return spec
 
@@ -337,7 +390,7 @@ def with_values(spec: Spec, changes) -> Spec:
         section, key = dotted.split(".")
         f = {f.name: f for f in dataclasses.fields(_SECTIONS[section])}[key]
         optional = value is None and f.default is None
-        number = None if optional else _read_value(spec.source, dotted, value, f)
+        number = None if optional else _read_value(spec.file, dotted, value, f)
         table = dataclasses.replace(getattr(new, section), **{key: number})
         new = dataclasses.replace(new, **{section: table})
     _check_consistency(new)
@@ -443,12 +496,101 @@ def _check_consistency(spec: Spec) -> None:
             f"two covers leave no room for coils in stator.thickness_mm = {st.thickness_mm:g}",
         )
     _check_pockets(spec)
+    _check_source(spec)
     inner = magnet_radial_extent_mm(mg)
     if mg.pitch_radius_mm - inner / 2 <= ro.bore_diameter_mm / 2:
         raise spec.fail(
             "magnets.pitch_radius_mm",
             mg.pitch_radius_mm,
             f"magnets reach into the bore (rotor.bore_diameter_mm = {ro.bore_diameter_mm:g})",
+        )
+
+
+_SOURCE_KEYS = {
+    "wind": (
+        "rotor_diameter_m",
+        "blades",
+        "design_tsr",
+        "peak_cp",
+        "cp_curve",
+        "mean_wind_m_s",
+        "weibull_k",
+        "air_density_kg_m3",
+        "furl_wind_m_s",
+    ),
+    "water": ("head_m", "flow_l_s", "turbine", "runner_diameter_mm", "turbine_efficiency"),
+    "pedal": ("cadence_rpm", "sustained_power_w", "peak_power_w"),
+}
+_SOURCE_KEYS["crank"] = _SOURCE_KEYS["pedal"]
+_SOURCE_REQUIRED = {
+    "wind": ("rotor_diameter_m", "mean_wind_m_s"),
+    "water": ("head_m", "flow_l_s", "turbine", "runner_diameter_mm"),
+    "pedal": ("cadence_rpm", "sustained_power_w"),
+    "crank": ("cadence_rpm", "sustained_power_w"),
+}
+
+
+def _check_source(spec: Spec) -> None:
+    """[source]: the keys of its kind only, those it needs, and curves a rotor could have."""
+    so = spec.source
+    if so is None:
+        return
+    mine = set(_SOURCE_KEYS[so.kind])
+    for other in {k for keys in _SOURCE_KEYS.values() for k in keys} - mine:
+        default = next(f.default for f in dataclasses.fields(SourceSpec) if f.name == other)
+        if getattr(so, other) != default:
+            raise spec.fail(f"source.{other}", getattr(so, other), f'not a key of source.kind = "{so.kind}"')
+    for key in _SOURCE_REQUIRED[so.kind]:
+        if getattr(so, key) is None:
+            raise spec.fail(f"source.{key}", None, f'required for source.kind = "{so.kind}"')
+    if so.kind == "wind":
+        if so.cp_curve is not None:
+            for key in ("design_tsr", "peak_cp"):
+                if getattr(so, key) is not None:
+                    raise spec.fail(
+                        f"source.{key}", getattr(so, key), "give source.cp_curve or this, not both"
+                    )
+            tsr = [p[0] for p in so.cp_curve]
+            if any(b <= a for a, b in zip(tsr, tsr[1:], strict=False)) or tsr[0] < 0:
+                raise spec.fail(
+                    "source.cp_curve",
+                    [list(p) for p in so.cp_curve],
+                    "tip-speed ratios must rise from 0 or more, point by point",
+                )
+            top = max(p[1] for p in so.cp_curve)
+            if top > BETZ_LIMIT or min(p[1] for p in so.cp_curve) < -0.5:
+                raise spec.fail(
+                    "source.cp_curve",
+                    [list(p) for p in so.cp_curve],
+                    "Cp must stay at most 16/27 = 0.593 (the Betz limit)",
+                )
+            if top <= 0:
+                raise spec.fail("source.cp_curve", [list(p) for p in so.cp_curve], "no point has Cp above 0")
+        else:
+            for key in ("design_tsr", "peak_cp"):
+                if getattr(so, key) is None:
+                    raise spec.fail(f"source.{key}", None, "required unless source.cp_curve is given")
+        if so.furl_wind_m_s is not None and so.furl_wind_m_s <= so.mean_wind_m_s:
+            raise spec.fail(
+                "source.furl_wind_m_s",
+                so.furl_wind_m_s,
+                f"must be above source.mean_wind_m_s ({so.mean_wind_m_s:g})",
+            )
+    if (
+        so.kind in ("pedal", "crank")
+        and so.peak_power_w is not None
+        and so.peak_power_w < so.sustained_power_w
+    ):
+        raise spec.fail(
+            "source.peak_power_w",
+            so.peak_power_w,
+            f"must be at least source.sustained_power_w ({so.sustained_power_w:g})",
+        )
+    if so.cable_length_m > 0 and spec.target.kind != "battery":
+        raise spec.fail(
+            "source.cable_length_m",
+            so.cable_length_m,
+            'the cable is modelled for target.kind = "battery" only; leave it out',
         )
 
 
@@ -459,7 +601,7 @@ def unit_slip_hint(spec: Spec) -> str:
     hints = []
     if max(sizes) < 4:
         hints.append("the magnet sizes look like inches: give them in mm")
-    if ta.max_rpm < 25:
+    if ta.rated_rpm < 25:  # the rated speed: a [source] may raise max_rpm to its runaway
         hints.append("the speeds look like revolutions per second: give them in rpm")
     if mg.pitch_radius_mm < 20 and max(sizes) < 4:
         hints.append("magnets.pitch_radius_mm looks like inches too")

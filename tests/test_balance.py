@@ -246,11 +246,11 @@ def test_the_plain_steel_disc_is_checked_with_no_magnets_to_place():
     assert one.mass_kg == pytest.approx(disc1 + magnets, rel=1e-9)
     assert two.mass_kg == pytest.approx(disc2, rel=1e-9)
     assert rb.rotor_mass_kg == pytest.approx(disc1 + disc2 + magnets, rel=1e-9)
-    # ISO 21940-11: U_per for the whole rotor at 600 rpm, split between the two correction
-    # planes in inverse proportion to their distance from the discs' centre of mass: disc 1's
-    # magnets' mid-plane 6 + 2.5 + 6 mm below the stator's mid-plane, disc 2's mid-plane
-    # 6 + 2.5 + 4 mm above it.
-    u_per = 1000 * 6.3 * rb.rotor_mass_kg / (600 * 2 * math.pi / 60)
+    # ISO 21940-11: U_per for the whole rotor at 660 rpm (the demo's max_rpm), split between
+    # the two correction planes in inverse proportion to their distance from the discs'
+    # centre of mass: disc 1's magnets' mid-plane 6 + 2.5 + 6 mm below the stator's
+    # mid-plane, disc 2's mid-plane 6 + 2.5 + 4 mm above it.
+    u_per = 1000 * 6.3 * rb.rotor_mass_kg / (660 * 2 * math.pi / 60)
     zc = (disc1 * -14.5 + disc2 * 12.5) / (disc1 + disc2)
     a, b = abs(-14.5 - zc), abs(12.5 - zc)
     assert one.permissible_gmm == pytest.approx(u_per * b / (a + b), rel=1e-9)

@@ -39,7 +39,7 @@ def one_line(d) -> str:
     with pytest.raises(DesignError) as info:
         check_parts(d)
     message = str(info.value)
-    assert "\n" not in message and message.startswith(f"{d.spec.source}: ")
+    assert "\n" not in message and message.startswith(f"{d.spec.file}: ")
     return message
 
 

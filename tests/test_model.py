@@ -346,6 +346,11 @@ def test_ac_line_target_is_met_with_the_fewest_turns():
     assert float(v_ph[0]) * math.sqrt(3) < 40.0
 
 
+def cable_ohm(spec) -> float:
+    so = spec.source
+    return 0.0 if so is None else 2 * so.cable_length_m / (58 * so.cable_area_mm2)
+
+
 @pytest.mark.parametrize("demo", DEMOS)
 def test_coil_temperature_is_a_converged_fixed_point(demo):
     from layout.circuit import Load, simulate_rectifier
@@ -376,7 +381,8 @@ def test_coil_temperature_is_a_converged_fixed_point(demo):
         # ... and the currents are those of the circuit with the copper at that temperature,
         # simulated afresh here (one point, its own call).
         load = (
-            Load("battery", ta.battery_resistance_ohm, ta.battery_v)
+            # the battery's own resistance and the cable's loop (2·L/(58·A), IEC 60028 copper)
+            Load("battery", ta.battery_resistance_ohm + cable_ohm(spec), ta.battery_v)
             if ta.kind == "battery"
             else Load("resistor", ta.voltage_v / ta.rated_current_a)
         )

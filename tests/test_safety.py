@@ -38,13 +38,17 @@ ALL_CODES = {
     "magnet.retention",
     "disc.printed_care",
     "output.below_cut_in",
+    "source.stall",
+    "source.coil_heat",
+    "source.runaway",
+    "source.no_output",
     "rotor.spinning",
 }
 ACTION_VERBS = (
     "use", "raise", "lower", "fit", "make", "handle", "keep", "guard", "limit", "choose",
     "bring", "enclose", "never", "follow",
 )  # fmt: skip
-SPEC_KEY = re.compile(r"\b(stator|magnets|rotor|connection|target|coils|fab)\.[a-z_]+")
+SPEC_KEY = re.compile(r"\b(stator|magnets|rotor|connection|target|coils|fab|source)\.[a-z_]+")
 
 
 def codes(d: Design) -> dict[str, str]:
@@ -59,6 +63,7 @@ PLA_FAST = ("millrace", ("rotor.disc_material", "pla"), ("target.max_rpm", 10000
 VARIANTS = [
     ("hilltop",),
     ("hilltop", *PLATE),  # the stationary plate and its loss
+    ("hilltop", ("source.furl_wind_m_s", None)),  # blades that never furl run away in a storm
     ("millrace",),
     ("pedalbox",),
     ("pedalbox", ("target.max_rpm", 3000.0)),

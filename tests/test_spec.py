@@ -146,7 +146,7 @@ BAD_EDITS = [
 def test_demo_designs_load(demo):
     spec = load_spec(DESIGNS / f"{demo}.toml")
     raw = tomllib.loads(demo_text(demo))
-    assert spec.source == f"{demo}.toml"
+    assert spec.file == f"{demo}.toml"
     assert spec.name == raw["name"] == demo
     assert spec.stator.coil_positions == raw["stator"]["coil_positions"]
     assert spec.stator.phases == raw["stator"]["phases"]
