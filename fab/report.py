@@ -12,6 +12,7 @@ from layout.design import Design
 from layout.forces import STEEL_B_LIMIT_T, G
 from layout.model import TEMPERATURE_CAP_C
 from layout.pairs import STATOR_RULES, Pair
+from layout.spec import source_keys
 
 
 def table(headings: Sequence[str], rows: Sequence[Sequence[object]], title: str = "") -> str:
@@ -310,8 +311,9 @@ def source_json(design: Design) -> dict:
     if op is None:
         return {}
     src = op.source
-    resolved = {f.name: getattr(src.spec, f.name) for f in dataclasses.fields(src.spec)}
-    if resolved["cp_curve"] is not None:
+    mine = source_keys(src.kind)
+    resolved = {f.name: getattr(src.spec, f.name) for f in dataclasses.fields(src.spec) if f.name in mine}
+    if resolved.get("cp_curve") is not None:
         resolved["cp_curve"] = [list(p) for p in resolved["cp_curve"]]
     resolved["drive_efficiency"] = src.drive_efficiency
     if src.turbine_efficiency is not None:
@@ -359,6 +361,11 @@ def energy_words(design: Design) -> str:
     return f"about {e['wh_per_hour']:.0f} Wh for each hour at a comfortable {so.sustained_power_w:g} W effort"
 
 
+def _condition(kind: str, value: float) -> str:
+    """A condition as a reader wants it: 7 (m/s), 12.5 (l/s), 19 (W of effort)."""
+    return f"{value:.0f}" if kind in ("pedal", "crank") else f"{value:.3g}"
+
+
 def _source_text(design: Design) -> str:
     op = design.operating
     src = op.source
@@ -390,7 +397,7 @@ def _source_text(design: Design) -> str:
         )
         rows.append(
             [
-                f"{r.condition:g}",
+                _condition(src.kind, r.condition),
                 *([f"{r.rpm / src.spec.drive_ratio:.0f}"] if person else []),
                 int(round(r.rpm)),
                 *([f"{r.tsr:.1f}", f"{r.cp:.2f}"] if wind else []),
@@ -420,7 +427,7 @@ def _source_text(design: Design) -> str:
     lines = [table(headings, rows, title)]
     unit = _CONDITION_UNIT[key]
     if op.cut_in_condition is not None:
-        lines.append(f"Output starts at {op.cut_in_condition:g} {unit}.")
+        lines.append(f"Output starts at {_condition(src.kind, op.cut_in_condition)} {unit}.")
     if op.stall_wind_m_s is not None:
         lines.append(
             f"From {op.stall_wind_m_s:g} m/s the alternator holds the blades well below "

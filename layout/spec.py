@@ -530,6 +530,12 @@ _SOURCE_REQUIRED = {
 }
 
 
+def source_keys(kind: str) -> tuple[str, ...]:
+    """The [source] keys that apply to `kind`: its own and those every kind has."""
+    common = ("kind", "drive_ratio", "drive_efficiency", "cable_length_m", "cable_area_mm2")
+    return common + _SOURCE_KEYS[kind]
+
+
 def _check_source(spec: Spec) -> None:
     """[source]: the keys of its kind only, those it needs, and curves a rotor could have."""
     so = spec.source

@@ -202,3 +202,34 @@ def test_bad_source_keys_are_one_line_errors(tmp_path, key, value, words):
         load_spec(path)
     message = str(err.value)
     assert "\n" not in message and f"source.{key}" in message and words in message
+
+
+@pytest.mark.parametrize("demo", ["hilltop", "millrace", "pedalbox"])
+def test_plan_shows_the_operating_table_and_json(run, demo):
+    """plan prints the table and energy; --json carries source, operating, energy, runaway."""
+    import json
+
+    text = run("plan", DESIGNS / f"{demo}.toml")
+    assert text.returncode == 0
+    assert "Where it runs" in text.stdout and "Energy: about" in text.stdout and "Runaway:" in text.stdout
+    out = run("plan", "--json", DESIGNS / f"{demo}.toml")
+    data = json.loads(out.stdout, parse_constant=lambda c: pytest.fail(f"{c} in JSON"))
+    key = {"hilltop": "wind_m_s", "millrace": "flow_l_s", "pedalbox": "effort_w"}[demo]
+    assert data["source"]["kind"] == {"hilltop": "wind", "millrace": "water", "pedalbox": "pedal"}[demo]
+    rows = data["operating"]
+    assert rows and all(key in r for r in rows)
+    assert {"rpm", "tsr", "cp", "source_power_w", "output_power_w", "efficiency"} <= set(rows[0])
+    assert data["runaway_rpm"] > 0
+    energy = {"hilltop": "annual_kwh", "millrace": "kwh_per_day", "pedalbox": "wh_per_hour"}[demo]
+    assert data["energy"][energy] > 0
+    if demo == "hilltop":
+        assert 0 < data["energy"]["capacity_factor"] < 1 and len(rows) == 25
+
+
+def test_a_design_without_source_has_no_operating_keys(run, tmp_path):
+    import json
+
+    path = tmp_path / "plain.toml"
+    path.write_text((DESIGNS / "millrace.toml").read_text().split("# The turbine")[0])
+    data = json.loads(run("plan", "--json", path).stdout)
+    assert "operating" not in data and "source" not in data
