@@ -58,19 +58,8 @@ def cel(kc: np.ndarray, p: np.ndarray, c: np.ndarray, s: np.ndarray) -> np.ndarr
         pp = np.where(positive, root, pn)
         ss = np.where(positive, s / root, -q0 / (g0 * g0 * pn) + cn * pn)
         cc = np.where(positive, c, cn)
-    f = cc
-    cc = cc + ss / pp
-    g = k / pp
-    ss = 2 * (ss + f * g)
-    pp = g + pp
-    g = em
-    em = k + em
-    kk = k
+    kk = k  # k·em, with em = 1 at the start
     for _ in range(_CEL_MAX_STEPS):
-        if not np.any(np.abs(g - k) > g * _CEL_TOL):
-            break
-        k = 2 * np.sqrt(kk)
-        kk = k * em
         f = cc
         cc = cc + ss / pp
         g = kk / pp
@@ -78,6 +67,10 @@ def cel(kc: np.ndarray, p: np.ndarray, c: np.ndarray, s: np.ndarray) -> np.ndarr
         pp = g + pp
         g = em
         em = k + em
+        if not np.any(np.abs(g - k) > g * _CEL_TOL):
+            break
+        k = 2 * np.sqrt(kk)
+        kk = k * em
     return (np.pi / 2) * (ss + cc * em) / (em * (em + pp))
 
 
