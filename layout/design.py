@@ -165,10 +165,10 @@ def _compute(spec: Spec, given_max_rpm: float | None = None) -> Design:
     operating = None
     if spec.source is not None:
 
-        def evaluate(rpms):
-            return curve_at(spec, geo, lay, emf, pred, rpms, plate, **losses)
+        def evaluate(rpms, temps_c=None):
+            return curve_at(spec, geo, lay, emf, pred, rpms, plate, temps_c=temps_c, **losses)
 
-        operating = operating_points(resolve(spec.source), evaluate, spec.target.max_rpm)
+        operating = operating_points(resolve(spec.source), evaluate, pred.curve)
     warnings = collect_warnings(
         spec, lay, pred, forces, _as_star(spec, geo, lay, link, pred, plate, **losses)
     ) + source_warnings(operating, spec.target.max_rpm, given_max_rpm, spec.stator.binder)

@@ -390,9 +390,21 @@ def predict(
     return pred
 
 
-def curve_at(spec: Spec, geo, layout, emf, pred: Prediction, rpms, plate=None, fmap=None, rotor_mass_kg=0.0):
+def curve_at(
+    spec: Spec,
+    geo,
+    layout,
+    emf,
+    pred: Prediction,
+    rpms,
+    plate=None,
+    fmap=None,
+    rotor_mass_kg=0.0,
+    temps_c=None,
+):
     """The machine `pred` sized (its turns and wire) evaluated at each of `rpms` (> 0), with
-    the coils at each point's steady temperature: the points a source drives it at."""
+    the coils at each point's steady temperature, or at `temps_c` where given (a quick
+    evaluation between steady ones): the points a source drives it at."""
     ta = spec.target
     vf = ta.diode_drop_v
     if ta.kind == "battery":
@@ -418,7 +430,16 @@ def curve_at(spec: Spec, geo, layout, emf, pred: Prediction, rpms, plate=None, f
         extra=extra,
         at_rpm=at,
         wire=pred.wire,
+        temps_c=temps_c,
     ).curve
+
+
+def _settled(loss, ambient, conductance, n, temps_c):
+    """settle_temperature, or the temperatures given (held there, not solved)."""
+    if temps_c is None:
+        return settle_temperature(loss, ambient, conductance, n)
+    t = np.minimum(np.asarray(temps_c, dtype=float), TEMPERATURE_CAP_C)
+    return t, t >= TEMPERATURE_CAP_C
 
 
 def _evaluate(
@@ -435,6 +456,7 @@ def _evaluate(
     extra=(None, 0.0),
     at_rpm=None,
     wire=None,
+    temps_c=None,
 ) -> Prediction:
     """Wire, R, L and the output curve for a given number of turns (at `at_rpm` when given,
     with `wire` when given: the machine already sized)."""
@@ -500,7 +522,7 @@ def _evaluate(
             sim = _simulate(spec, layout, emf, warm(idx, t), r_phase, l_phase, rpms[idx], load, t)
             return sim.copper_loss_w + steel_w[idx] + eddy(idx, t)
 
-        temps, over = settle_temperature(loss, ambient, conductance, len(rpms))
+        temps, over = _settled(loss, ambient, conductance, len(rpms), temps_c)
         everywhere = np.arange(len(rpms))
         res = _simulate(spec, layout, emf, warm(everywhere, temps), r_phase, l_phase, rpms, load, temps)
         dc_v, dc_i, dc_p = res.dc_voltage_v, res.dc_current_a, res.dc_power_w
@@ -521,7 +543,7 @@ def _evaluate(
         def heat(idx, t):
             return ac_line(idx, t)[2] + steel_w[idx] + eddy(idx, t)
 
-        temps, over = settle_temperature(heat, ambient, conductance, len(rpms))
+        temps, over = _settled(heat, ambient, conductance, len(rpms), temps_c)
         i_load, v_ph, cu_w, i_loop = ac_line(np.arange(len(rpms)), temps)
         i_ph = np.hypot(i_load, i_loop)
         dc_p = phases * i_load**2 * load_ohm

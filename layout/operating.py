@@ -20,9 +20,11 @@ from layout.safety import Warning
 from layout.source import Source, annual_energy_kwh, cable_resistance_ohm
 
 GRID_POINTS = 36
+LOW_POINTS = 4  # grid points below the curve's first speed
 BALANCE_REL = 0.01  # the two powers agree within 1 % of the source's at each steady point
 BALANCE_FLOOR_W = 0.2  # or within 0.2 W, near standstill
-REFINE_STEPS = 6
+REFINE_REL = 0.005  # the refining steps aim closer, as their coil temperature is interpolated
+REFINE_STEPS = 8
 # The blades count as stalled by the alternator where it holds them below this share of the
 # tip-speed ratio of peak Cp (our choice: about 70 % of peak Cp remains there).
 STALL_TSR_SHARE = 0.7
@@ -74,12 +76,20 @@ def _steady(src: Source, condition: float, rpms: np.ndarray, shaft_w: np.ndarray
     return float(rpms[j - 1] + (rpms[j] - rpms[j - 1]) * a / (a - b)), j
 
 
-def operating_points(src: Source, evaluate, max_rpm: float) -> Operating:
-    """Every condition's steady point. `evaluate(rpms)` returns the alternator's
-    OperatingPoints at those speeds (model.curve_at with the machine's arguments)."""
+def operating_points(src: Source, evaluate, curve: tuple[OperatingPoint, ...] = ()) -> Operating:
+    """Every condition's steady point. `evaluate(rpms, temps_c=None)` returns the alternator's
+    OperatingPoints at those speeds, with the coils at their steady temperature or at
+    `temps_c` (model.curve_at with the machine's arguments). `curve`: points already solved
+    (the plan's curve), used as the search grid where they reach the runaway speed."""
     top = max(src.runaway_rpm, 1.0) * 1.02
-    grid = np.linspace(top / GRID_POINTS, top, GRID_POINTS)
-    ops = evaluate(grid)
+    if curve and curve[-1].rpm >= src.runaway_rpm:
+        # below the curve's first speed the coils are as cool as there
+        low = np.linspace(curve[0].rpm / LOW_POINTS, curve[0].rpm, LOW_POINTS, endpoint=False)
+        ops = [*evaluate(low, np.full(LOW_POINTS, curve[0].coil_temperature_c)), *curve]
+        grid = np.array([op.rpm for op in ops])
+    else:
+        grid = np.linspace(top / GRID_POINTS, top, GRID_POINTS)
+        ops = evaluate(grid)
     shaft = np.array([op.shaft_power_w for op in ops])
     conditions = src.conditions()
     n = len(conditions)
@@ -90,18 +100,20 @@ def operating_points(src: Source, evaluate, max_rpm: float) -> Operating:
         surplus = src.power_w(grid, c) - shaft
         if j > 0:
             lo[k], hi[k], f_lo[k], f_hi[k] = grid[j - 1], grid[j], surplus[j - 1], surplus[j]
-    points: list[OperatingPoint | None] = [None] * n
+    # Between grid points the coils' temperature is interpolated from the grid's steady ones,
+    # so each refining step is one circuit run; the found speeds are then evaluated once more
+    # with the temperature solved there, and that is what is reported.
+    grid_temps = np.array([op.coil_temperature_c for op in ops])
     todo = np.flatnonzero(rpm > 0)
     for _ in range(REFINE_STEPS):
         if len(todo) == 0:
             break
-        got = evaluate(rpm[todo])
+        got = evaluate(rpm[todo], np.interp(rpm[todo], grid, grid_temps))
         left = []
         for k, op in zip(todo, got, strict=True):
-            points[k] = op
             give = float(src.power_w(op.rpm, conditions[k]))
             gap = give - op.shaft_power_w
-            if abs(gap) <= max(BALANCE_REL * abs(give), BALANCE_FLOOR_W):
+            if abs(gap) <= max(REFINE_REL * abs(give), BALANCE_FLOOR_W / 4):
                 continue
             left.append(k)
             # false position with the Illinois rule: the end that stays has its value halved
@@ -113,6 +125,11 @@ def operating_points(src: Source, evaluate, max_rpm: float) -> Operating:
                 f_lo[k] *= 0.5
             rpm[k] = lo[k] + (hi[k] - lo[k]) * f_lo[k] / (f_lo[k] - f_hi[k])
         todo = np.array(left, dtype=int)
+    points: list[OperatingPoint | None] = [None] * n
+    turning = np.flatnonzero(rpm > 0)
+    if len(turning):
+        for k, op in zip(turning, evaluate(rpm[turning]), strict=True):
+            points[k] = op
     rows = tuple(_row(src, c, points[k]) for k, c in enumerate(conditions))
     return Operating(
         source=src,
