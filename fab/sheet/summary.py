@@ -6,7 +6,7 @@ from __future__ import annotations
 
 from xml.sax.saxutils import escape
 
-from fab.report import suggestion_lines
+from fab.report import energy_words, suggestion_lines
 from fab.sheet.document import MM, Files, _Ctx, _fmt_ohm, _key_value_table, _p, _pm, _table
 from fab.sheet.words import DEFER, _magnet_words, _wire_words, cut_in_rpm_stated, open_circuit_rms_v
 from layout.design import Design
@@ -66,14 +66,20 @@ def _cut_in_words(design: Design) -> str:
     )
 
 
+def _source_words(design: Design) -> str:
+    """The source's energy and runaway in a line (the same words as plan's)."""
+    op = design.operating
+    return f"{energy_words(design)}; with no load it runs away to {op.runaway_rpm:.0f} rpm"
+
+
 def _caution_group(code: str) -> str:
-    if code.startswith("coil.") or code == "magnet.temperature":
+    if code.startswith("coil.") or code in ("magnet.temperature", "source.coil_heat"):
         return "Heat"
     if code.startswith("magnet."):
         return "Magnets"
     if code.startswith("voltage."):
         return "Voltage"
-    if code.startswith(("rotor.", "disc.", "layout.")):
+    if code.startswith(("rotor.", "disc.", "layout.")) or code == "source.runaway":
         return "Rotating parts"
     return "Design"
 
@@ -153,6 +159,7 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
             f"{_fmt_ohm(pr.phase_resistance_ohm)} per phase; {_fmt_ohm(pr.coil_resistance_ohm)} per coil",
         ),
         ("electrical frequency", f"{pr.electrical_hz_at_rated:.1f} Hz at {ta.rated_rpm:g} rpm"),
+        *([("with its source", _source_words(d))] if d.operating is not None else []),
     ]
     out.append(_key_value_table(ctx, rows, 52 * MM))
     out.append(_p(ctx, "Files in the package", "h2"))
