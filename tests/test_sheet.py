@@ -60,7 +60,10 @@ def section(reader: PdfReader, heading: str, layout: bool = False) -> str:
     """Text of the pages from the one whose body starts with `heading` up to the next heading."""
     texts = page_texts(reader, layout)
     plain = page_texts(reader) if layout else texts
-    headings = ("Magnet map", "Winding checklist", "Wiring diagram", "Curves", "Balance report", "Test plan")
+    headings = (
+        "Magnet map", "Winding checklist", "Wiring diagram", "Curves", "Where it runs", "Balance report",
+        "Test plan",
+    )  # fmt: skip
     start = next(i for i, t in enumerate(plain) if _first_line(t).startswith(heading))
     end = start + 1
     while end < len(plain) and not _first_line(plain[end]).startswith(headings):
@@ -539,3 +542,27 @@ def test_render_says_what_is_missing(tmp_path, monkeypatch):
     monkeypatch.setattr(shutil, "which", lambda name: None)
     with pytest.raises(sheet.RenderUnavailable, match="poppler-utils"):
         render_pages_png(tmp_path / "x.pdf", tmp_path)
+
+
+@pytest.mark.parametrize("demo", DEMOS)
+def test_source_page_shows_the_steady_points_and_energy(sheets, designs, demo):
+    """The source page: each steady point's speed and output as plan gives them, the energy
+    in the same words, the runaway; a design without a [source] has no such page."""
+    from fab.report import energy_words
+
+    d = designs[demo]
+    text = " ".join(section(sheets[demo, "a4"][1], "Where it runs").split())
+    assert " ".join(energy_words(d).split()) in text
+    assert f"runs away to {d.operating.runaway_rpm:.0f} rpm" in text
+    for r in d.operating.rows:
+        if r.point is not None and (d.operating.source.kind != "wind" or r.condition <= 7):
+            assert f"{r.rpm:.0f} " in text and f"{r.output_power_w:.0f} " in text
+
+
+def test_no_source_no_source_page(tmp_path):
+    text = (DESIGNS / "millrace.toml").read_text(encoding="utf-8").split("# The turbine")[0]
+    path = tmp_path / "plain.toml"
+    path.write_text(text, encoding="utf-8")
+    d = compute_design(load_spec(path))
+    pdf = write_sheet(d, tmp_path / "plain.pdf", date=DATE)
+    assert not any(t.strip().startswith("Where it runs") for t in page_texts(PdfReader(pdf)))

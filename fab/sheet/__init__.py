@@ -94,6 +94,7 @@ from fab.sheet.magnet_maps import (
     _pocket_table,
     _scale_bar_mm,
 )
+from fab.sheet.operating import _drawn_conditions, _source_page
 from fab.sheet.render import RenderUnavailable, render_pages_png
 from fab.sheet.schematic import (
     _delta,

@@ -18,6 +18,7 @@ from fab.sheet.document import (
     _styles,
 )
 from fab.sheet.magnet_maps import _magnet_map
+from fab.sheet.operating import _source_page
 from fab.sheet.summary import _summary
 from fab.sheet.wiring import _wiring
 from layout.rotor import disc_count
@@ -54,6 +55,7 @@ def _build(design, filename, paper, balance, files, date) -> None:
         _checklist(ctx),
         _wiring(ctx),
         _curves(ctx),
+        *([_source_page(ctx)] if design.operating is not None else []),
         _balance_and_materials(ctx, balance),
         _test_plan(ctx),
     ]
