@@ -361,6 +361,25 @@ def energy_words(design: Design) -> str:
     return f"about {e['wh_per_hour']:.0f} Wh for each hour at a comfortable {so.sustained_power_w:g} W effort"
 
 
+def source_sentences(design: Design) -> list[str]:
+    """Where output starts, the stall, the energy and the runaway: one sentence each, for the
+    plan and the sheet."""
+    op = design.operating
+    src = op.source
+    out = []
+    if op.cut_in_condition is not None:
+        unit = _CONDITION_UNIT[src.condition_key]
+        out.append(f"Output starts at {_condition(src.kind, op.cut_in_condition)} {unit}.")
+    if op.stall_wind_m_s is not None:
+        out.append(
+            f"From {op.stall_wind_m_s:g} m/s the alternator holds the blades well below their best "
+            "tip-speed ratio: they stall (source.stall says what to change)."
+        )
+    out.append(f"Energy: {energy_words(design)}.")
+    out.append(f"Runaway: {op.runaway_rpm:.0f} rpm with no load, {src.runaway_condition}.")
+    return out
+
+
 def _condition(kind: str, value: float) -> str:
     """A condition as a reader wants it: 7 (m/s), 12.5 (l/s), 19 (W of effort)."""
     return f"{value:.0f}" if kind in ("pedal", "crank") else f"{value:.3g}"
@@ -425,16 +444,7 @@ def _source_text(design: Design) -> str:
         "water": "Where it runs at each flow (steady speed on the turbine's torque line)",
     }.get(src.kind, "Where it runs at each effort (steady cadence on the rider's torque line)")
     lines = [table(headings, rows, title)]
-    unit = _CONDITION_UNIT[key]
-    if op.cut_in_condition is not None:
-        lines.append(f"Output starts at {_condition(src.kind, op.cut_in_condition)} {unit}.")
-    if op.stall_wind_m_s is not None:
-        lines.append(
-            f"From {op.stall_wind_m_s:g} m/s the alternator holds the blades well below "
-            "their best tip-speed ratio (stall)."
-        )
-    lines.append(f"Energy: {energy_words(design)}.")
-    lines.append(f"Runaway: {op.runaway_rpm:.0f} rpm with no load, {src.runaway_condition}.")
+    lines += source_sentences(design)
     if design.given_max_rpm is not None:
         lines.append(
             f"That is above target.max_rpm = {design.given_max_rpm:g}: every check in this plan "

@@ -553,7 +553,7 @@ def test_source_page_shows_the_steady_points_and_energy(sheets, designs, demo):
     d = designs[demo]
     text = " ".join(section(sheets[demo, "a4"][1], "Where it runs").split())
     assert " ".join(energy_words(d).split()) in text
-    assert f"runs away to {d.operating.runaway_rpm:.0f} rpm" in text
+    assert f"Runaway: {d.operating.runaway_rpm:.0f} rpm" in text
     for r in d.operating.rows:
         if r.point is not None and (d.operating.source.kind != "wind" or r.condition <= 7):
             assert f"{r.rpm:.0f} " in text and f"{r.output_power_w:.0f} " in text

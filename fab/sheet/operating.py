@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from fab.report import energy_words
+from fab.report import source_sentences
 from fab.sheet.charts import _DASH_DOT, _DASHED, _DOTTED, _SOLID, _chart, _Mark, _Series
 from fab.sheet.document import _Ctx, _p, _table
 
@@ -124,14 +124,6 @@ def _source_page(ctx: _Ctx) -> list:
         )
     width = ctx.frame_w / len(head)
     out.append(_table(ctx, rows, [width] * len(head)))
-    lines = [f"Energy: {energy_words(d)}."]
-    if op.cut_in_condition is not None:
-        lines.append(f"Output starts at {_label(kind, op.cut_in_condition)}.")
-    if op.stall_wind_m_s is not None:
-        lines.append(
-            f"From {op.stall_wind_m_s:g} m/s the alternator holds the blades below their best "
-            "tip-speed ratio: they stall (see the warnings for what to change)."
-        )
-    lines.append(f"With no load it runs away to {op.runaway_rpm:.0f} rpm, {src.runaway_condition}.")
+    lines = source_sentences(d)
     out.append(_p(ctx, " ".join(lines), "small"))
     return out
