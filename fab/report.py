@@ -301,9 +301,6 @@ def plan_json(design: Design) -> dict:
     }
 
 
-_CONDITION_UNIT = {"wind_m_s": "m/s", "flow_l_s": "l/s", "effort_w": "W effort"}
-
-
 def source_json(design: Design) -> dict:
     """`source`, `operating`, `energy` and `runaway_rpm` where a [source] drives the machine;
     nothing otherwise."""
@@ -368,8 +365,8 @@ def source_sentences(design: Design) -> list[str]:
     src = op.source
     out = []
     if op.cut_in_condition is not None:
-        unit = _CONDITION_UNIT[src.condition_key]
-        out.append(f"Output starts at {_condition(src.kind, op.cut_in_condition)} {unit}.")
+        unit = src.condition_unit
+        out.append(f"Output starts at {condition_words(src.kind, op.cut_in_condition)} {unit}.")
     if op.stall_wind_m_s is not None:
         out.append(
             f"From {op.stall_wind_m_s:g} m/s the alternator holds the blades well below their best "
@@ -380,7 +377,7 @@ def source_sentences(design: Design) -> list[str]:
     return out
 
 
-def _condition(kind: str, value: float) -> str:
+def condition_words(kind: str, value: float) -> str:
     """A condition as a reader wants it: 7 (m/s), 12.5 (l/s), 19 (W of effort)."""
     return f"{value:.0f}" if kind in ("pedal", "crank") else f"{value:.3g}"
 
@@ -416,7 +413,7 @@ def _source_text(design: Design) -> str:
         )
         rows.append(
             [
-                _condition(src.kind, r.condition),
+                condition_words(src.kind, r.condition),
                 *([f"{r.rpm / src.spec.drive_ratio:.0f}"] if person else []),
                 int(round(r.rpm)),
                 *([f"{r.tsr:.1f}", f"{r.cp:.2f}"] if wind else []),

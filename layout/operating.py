@@ -211,7 +211,7 @@ def source_warnings(
         (r for r in operating.rows if r.point is not None and r.point.coil_temperature_c > limit), None
     )
     if hot is not None:
-        unit = {"wind": "m/s", "water": "l/s"}.get(src.kind, "W of effort")
+        unit = src.condition_unit
         out.append(
             Warning(
                 "source.coil_heat",

@@ -93,6 +93,11 @@ class Source:
         """The JSON key of an operating row's condition."""
         return {"wind": "wind_m_s", "water": "flow_l_s"}.get(self.kind, "effort_w")
 
+    @property
+    def condition_unit(self) -> str:
+        """The unit of a condition, for a reader: "m/s", "l/s" or "W effort"."""
+        return {"wind": "m/s", "water": "l/s"}.get(self.kind, "W effort")
+
     def conditions(self) -> np.ndarray:
         """The operating table's rows: wind speeds, flows (l/s) or efforts (W)."""
         so = self.spec

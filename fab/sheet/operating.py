@@ -5,12 +5,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from fab.report import source_sentences
+from fab.report import condition_words, source_sentences
 from fab.sheet.charts import _DASH_DOT, _DASHED, _DOTTED, _SOLID, _chart, _Mark, _Series
 from fab.sheet.document import _Ctx, _p, _table
 
 _STYLES = ((_DOTTED, ""), (_DASH_DOT, ""), (_DASHED, ""), (_DOTTED, "^"), (_DASH_DOT, "s"), (_DASHED, "o"))
-_UNIT = {"wind": "m/s", "water": "l/s", "pedal": "W effort", "crank": "W effort"}
 
 
 def _drawn_conditions(op) -> list[float]:
@@ -23,8 +22,8 @@ def _drawn_conditions(op) -> list[float]:
     return winds + [furl] if furl <= 25 else winds
 
 
-def _label(kind: str, value: float) -> str:
-    return f"{value:.0f} {_UNIT[kind]}" if kind in ("pedal", "crank") else f"{value:g} {_UNIT[kind]}"
+def _label(src, value: float) -> str:
+    return f"{condition_words(src.kind, value)} {src.condition_unit}"
 
 
 def _source_page(ctx: _Ctx) -> list:
@@ -52,7 +51,7 @@ def _source_page(ctx: _Ctx) -> list:
     for k, c in enumerate(_drawn_conditions(op)):
         dash, marker = _STYLES[k % len(_STYLES)]
         ys = [max(float(v), 0.0) for v in src.power_w(np.array(xs), c)]
-        series.append(_Series(_label(kind, c), xs, ys, dash, marker, every=10))
+        series.append(_Series(_label(src, c), xs, ys, dash, marker, every=10))
     pts = sorted((r.point for r in op.rows if r.point is not None), key=lambda p: p.rpm)
     if pts:
         series.append(
@@ -78,7 +77,7 @@ def _source_page(ctx: _Ctx) -> list:
     wind = kind == "wind"
     cable = src.spec.cable_length_m > 0
     head = [
-        _UNIT[kind],
+        src.condition_unit,
         "rpm",
         *(["tip-speed ratio", "Cp"] if wind else []),
         "source W",
@@ -103,7 +102,7 @@ def _source_page(ctx: _Ctx) -> list:
             )
         )
         cells = [
-            _label(kind, r.condition).split(" ")[0],
+            _label(src, r.condition).split(" ")[0],
             f"{r.rpm:.0f}",
             *([f"{r.tsr:.1f}", f"{r.cp:.2f}"] if wind else []),
             f"{r.source_power_w:.0f}",
