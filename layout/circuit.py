@@ -124,12 +124,14 @@ class Load:
 
     kind: "battery" or "resistor".
     resistance_ohm: battery internal resistance plus wiring, or the load resistance; Ω, > 0.
-    voltage_v: battery open-circuit voltage, V, ≥ 0; ignored for "resistor".
+    voltage_v: battery open-circuit voltage, V, ≥ 0; ignored for "resistor". A sequence gives
+        each operating point its own (a converter holding the bus at a different level at
+        each point); `take` picks the points of a subset.
     """
 
     kind: str
     resistance_ohm: float
-    voltage_v: float = 0.0
+    voltage_v: float | tuple[float, ...] = 0.0
 
     def __post_init__(self) -> None:
         if self.kind not in LOAD_KINDS:
@@ -138,14 +140,24 @@ class Load:
         if not (math.isfinite(r) and r > 0.0):
             raise ValueError(f"load resistance must be finite and > 0 Ω, got {r}")
         if self.kind == "battery":
-            v = float(self.voltage_v)
-            if not (math.isfinite(v) and v >= 0.0):
-                raise ValueError(f"battery voltage must be finite and ≥ 0 V, got {v}")
+            v = np.asarray(self.voltage_v, dtype=float)
+            if not (np.isfinite(v).all() and (v >= 0.0).all()):
+                raise ValueError(f"battery voltage must be finite and ≥ 0 V, got {self.voltage_v}")
 
     @property
-    def source_voltage_v(self) -> float:
-        """EMF on the DC side, V: the battery voltage, or 0 for a resistor."""
-        return float(self.voltage_v) if self.kind == "battery" else 0.0
+    def source_voltage_v(self) -> float | np.ndarray:
+        """EMF on the DC side, V: the battery voltage (one per point where given so), or 0 for a
+        resistor."""
+        if self.kind != "battery":
+            return 0.0
+        v = np.asarray(self.voltage_v, dtype=float)
+        return float(v) if v.ndim == 0 else v
+
+    def take(self, idx) -> Load:
+        """The load at the points `idx` of a per-point load; itself when it is the same at all."""
+        if np.ndim(self.voltage_v) == 0:
+            return self
+        return Load(self.kind, self.resistance_ohm, tuple(np.asarray(self.voltage_v, dtype=float)[idx]))
 
 
 @dataclass(frozen=True)
@@ -385,6 +397,9 @@ def _validate(
         raise ValueError(f"frequency_hz must have shape ({n_points},), got {freq.shape}")
     if not np.all(np.isfinite(freq) & (freq > 0.0)):
         raise ValueError("frequency_hz must be finite and > 0 Hz")
+    held = np.asarray(load.source_voltage_v)
+    if held.ndim != 0 and held.shape != (n_points,):
+        raise ValueError(f"a per-point load voltage must have shape ({n_points},), got {held.shape}")
 
     r = np.asarray(resistance_ohm, dtype=float)
     if r.ndim == 0:
