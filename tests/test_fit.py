@@ -126,8 +126,9 @@ def advised(message: str) -> list[object]:
 ADVISED = [
     # The jig's pins stand 0.3 of the coil hole's radial size from its centre: a short hole
     # puts them too near its ends, and the winder shaft's size cannot move them.
-    ("jig pins near the ends of a short hole", "millrace", (("magnets.length_mm", 20.0),),
-     "stator.hole_radial_mm = 22.0", "pin hole 2 and core", "at least"),
+    # the pins keep their web to the hole's wide end and so crowd the winder shaft instead
+    ("jig pins in a short hole", "millrace", (("magnets.length_mm", 20.0),),
+     "fab.winder_hole_diameter_mm = 8.5", "winder shaft hole and pin hole 1", "at most 4.5"),
     ("winder shaft into the jig pins", "millrace", (("fab.winder_hole_diameter_mm", 20.0),),
      "fab.winder_hole_diameter_mm = 20.0", "winder shaft hole and pin hole 1", "at most"),
     ("jacking screws into a crowded hub", "pedalbox", CROWDED_HUB,

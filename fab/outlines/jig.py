@@ -35,7 +35,9 @@ def jig_layout(design: Design) -> JigLayout:
     wire = design.prediction.wire
     slot = max(2.0, bundle_diameter_mm(wire) + 0.5)
     radial = float(hole[:, 0].max() - hole[:, 0].min())
-    return JigLayout(cx, slot, 0.3 * radial, radial)
+    # A wedge's centroid lies towards its wide, outer end: the outer pin keeps its web there.
+    room = float(hole[:, 0].max()) - cx - JIG_PIN_DIAMETER_MM / 2 - JIG_WEB_MM
+    return JigLayout(cx, slot, min(0.3 * radial, room), radial)
 
 
 def _jig_holes(design: Design, g: float) -> list[Feature]:
