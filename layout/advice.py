@@ -24,6 +24,7 @@ import math
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 
+from layout.converter import capacitor_rating_v, idle_bus_v, most_turns
 from layout.design import Design, compute_design
 from layout.forces import STEEL_DISC_NAME
 from layout.geometry import magnet_limit_c
@@ -153,7 +154,31 @@ FIGURES: dict[str, _Figure] = {
     "source.stall": _Figure(
         "m/s", lambda d: _stall_wind(d), +1, 0.5, "", lambda d: _stall_words(d),
     ),
+    "converter.overvoltage": _Figure(
+        "V", lambda d: _idle_bus_over(d), -1, 0.5, "", lambda d: _idle_bus_words(d),
+    ),
+    "converter.late_start": _Figure(
+        "rpm", lambda d: d.prediction.cut_in_rpm, -1, 1.0, "converter starts at ",
+        lambda d: f"{d.prediction.cut_in_rpm:.0f} rpm",
+    ),
 }  # fmt: skip
+
+
+def _output_w(d: Design) -> float:
+    """The rated output a change is weighed by: what reaches the load (out of a converter)."""
+    rated = d.prediction.rated
+    return rated.delivered_w if rated.delivered_w is not None else rated.dc_power_w
+
+
+def _idle_bus_over(d: Design) -> float:
+    """How far the idle bus at the highest speed passes the converter's limit, V."""
+    return idle_bus_v(d.prediction, d.spec.target) - d.spec.target.max_input_v
+
+
+def _idle_bus_words(d: Design) -> str:
+    ta = d.spec.target
+    return f"idle bus {idle_bus_v(d.prediction, ta):.0f} V at {ta.max_rpm:g} rpm, limit {ta.max_input_v:g} V"
+
 
 NO_STALL_M_S = 26.0  # past the operating table's last wind: the blades never stall
 
@@ -214,6 +239,27 @@ def _higher_cut_in(design: Design) -> Iterable[tuple[str, object]]:
             cut_in = _up(ta.cut_in_rpm, f, 5.0)
             if cut_in < 0.85 * ta.rated_rpm:  # charging must still start well below rated speed
                 yield "target.cut_in_rpm", cut_in
+
+
+def _lower_bus(design: Design) -> Iterable[tuple[str, object]]:
+    """Less voltage at the top speed: the turns the tool would size (coils as built had more),
+    the other connection, or a converter rated for the bus (a different part, the same
+    machine)."""
+    spec, pr = design.spec, design.prediction
+    ta = spec.target
+    if "turns_per_coil" in spec.coils_given:
+        per_turn = pr.open_circuit_dc_peak_at_max_v / pr.turns_per_coil
+        yield "coils.turns_per_coil", max(1, most_turns(ta, per_turn))
+    if spec.connection.kind == "star":
+        yield "connection.kind", "delta"
+    yield "target.max_input_v", capacitor_rating_v(idle_bus_v(pr, ta))
+
+
+def _wider_window(design: Design) -> Iterable[tuple[str, object]]:
+    """A converter that starts lower: the turns sized for the top speed then start it sooner."""
+    ta = design.spec.target
+    for f in (0.7, 0.5):
+        yield "target.min_input_v", _down(ta.min_input_v, f)
 
 
 def _finer_turns(design: Design) -> Iterable[tuple[str, object]]:
@@ -311,6 +357,8 @@ CANDIDATES: dict[str, tuple[Callable[[Design], Iterable[tuple[str, object]]], ..
     "coil.wire_eddy": (_thinner_strands,),
     "disc.bending": (_stiffer_disc,),
     "source.stall": (_rematch,),
+    "converter.overvoltage": (_lower_bus,),
+    "converter.late_start": (_wider_window,),
 }
 
 
@@ -363,7 +411,7 @@ def suggest(
                 gain = (value - now) * fig.better
                 if not math.isfinite(value) or gain <= fig.resolution or fig.show(new) == fig.show(design):
                     continue
-                p_now, p_new = design.prediction.rated.dc_power_w, new.prediction.rated.dc_power_w
+                p_now, p_new = _output_w(design), _output_w(new)
                 if p_new < (1 - MAX_OUTPUT_LOSS) * p_now:
                     continue
                 codes = {w.code for w in new.warnings if w.severity != "info"}

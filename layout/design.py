@@ -8,15 +8,16 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from layout.bill import Bill, materials_bill
+from layout.converter import idle_bus_v
 from layout.emf import CoilLinkage, FluxMap, coil_linkage, flux_map, phase_emf
 from layout.forces import Forces, compute_forces
 from layout.geometry import Geometry, resolve_geometry
 from layout.losses import rotor_mass_kg
 from layout.materials import STEEL_SATURATION_T
 from layout.model import Prediction, curve_at, predict
-from layout.operating import Operating, operating_points, source_warnings
+from layout.operating import Operating, converter_points, operating_points, source_warnings
 from layout.pairs import balanced_alternatives
-from layout.safety import DELTA_LOOP_SHARE, Warning, collect_warnings
+from layout.safety import DELTA_LOOP_SHARE, Warning, collect_warnings, converter_warnings
 from layout.source import resolve
 from layout.spec import DesignError, Spec, with_value
 from layout.steel import PlateFlux, plate_flux
@@ -165,13 +166,19 @@ def _compute(spec: Spec, given_max_rpm: float | None = None) -> Design:
     operating = None
     if spec.source is not None:
 
-        def evaluate(rpms, temps_c=None):
-            return curve_at(spec, geo, lay, emf, pred, rpms, plate, temps_c=temps_c, **losses)
+        def evaluate(rpms, temps_c=None, bus_v=None):
+            return curve_at(spec, geo, lay, emf, pred, rpms, plate, temps_c=temps_c, bus_v=bus_v, **losses)
 
-        operating = operating_points(resolve(spec.source), evaluate, pred.curve)
+        src = resolve(spec.source)
+        if spec.target.kind == "converter":
+            top = idle_bus_v(pred, spec.target, src.runaway_rpm)
+            operating = converter_points(src, evaluate, spec.target, top)
+        else:
+            operating = operating_points(src, evaluate, pred.curve)
     warnings = collect_warnings(
         spec, lay, pred, forces, _as_star(spec, geo, lay, link, pred, plate, **losses)
     ) + source_warnings(operating, spec.target.max_rpm, given_max_rpm, spec.stator.binder)
+    warnings += converter_warnings(spec, pred, lay.phases, runaway=given_max_rpm is not None)
     return Design(
         spec=spec,
         layout=lay,

@@ -6,11 +6,13 @@ speed, sizes the copper into the coil window and runs the rectifier model of `ci
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 
 import numpy as np
 
+from layout import converter as conv
 from layout.circuit import BridgeRating, Load, bridge_rating, simulate_rectifier
 from layout.emf import FluxMap, PhaseEmf, rms, thd
 from layout.forces import disc_outer_radius_mm
@@ -130,6 +132,7 @@ class OperatingPoint:
     magnet_temperature_c: float = 20.0  # the magnets' steady temperature (layout.thermal)
     conductor_eddy_w: float = 0.0  # eddy currents in the wire itself (layout.losses)
     mechanical_w: float = 0.0  # bearings and windage
+    delivered_w: float | None = None  # out of the converter (target.kind = "converter"), else None
 
     @property
     def temperature_words(self) -> str:
@@ -263,7 +266,7 @@ def _rectified_peak_per_turn(emf: PhaseEmf) -> float:
 
 def _curve_rpms(spec: Spec, cut_in: float) -> np.ndarray:
     ta = spec.target
-    lo = 0.5 * cut_in if ta.kind == "battery" else 0.2 * ta.rated_rpm
+    lo = 0.5 * cut_in if ta.kind in ("battery", "converter") else 0.2 * ta.rated_rpm
     rpms = np.linspace(lo, ta.max_rpm, CURVE_POINTS)
     return np.unique(np.round(np.concatenate([rpms, [ta.rated_rpm]])))
 
@@ -368,6 +371,9 @@ def predict(
         turns = given or max(1, round(v_cut / (per_turn_peak * _omega(ta.cut_in_rpm))))
         load = Load("battery", ta.battery_resistance_ohm + cable_resistance_ohm(spec.source), ta.battery_v)
         return _evaluate(spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate, rated_only, extra)
+    if ta.kind == "converter":
+        turns = given or _turns_for_converter(spec, per_turn_peak)
+        return _converter_evaluate(spec, geo, layout, emf, turns, per_turn_peak, plate, rated_only, extra)
     # A loaded target must hold with the coils warm: size at ambient, then again at the
     # coil temperature the rated point reaches, until the rated point meets the target.
     size_c = ta.ambient_c
@@ -401,12 +407,21 @@ def curve_at(
     fmap=None,
     rotor_mass_kg=0.0,
     temps_c=None,
+    bus_v=None,
 ):
     """The machine `pred` sized (its turns and wire) evaluated at each of `rpms` (> 0), with
     the coils at each point's steady temperature, or at `temps_c` where given (a quick
-    evaluation between steady ones): the points a source drives it at."""
+    evaluation between steady ones): the points a source drives it at. A converter holds
+    the bus at `bus_v` where given, else at its best level at each speed."""
     ta = spec.target
     vf = ta.diode_drop_v
+    extra = (fmap, rotor_mass_kg)
+    at = np.asarray(rpms, dtype=float)
+    if ta.kind == "converter":
+        return _converter_evaluate(
+            spec, geo, layout, emf, pred.turns_per_coil, _rectified_peak_per_turn(emf), plate,
+            extra=extra, at_rpm=at, wire=pred.wire, temps_c=temps_c, bus_v=bus_v,
+        ).curve  # fmt: skip
     if ta.kind == "battery":
         v_cut = ta.battery_v + 2 * vf
         load = Load("battery", ta.battery_resistance_ohm + cable_resistance_ohm(spec.source), ta.battery_v)
@@ -415,8 +430,6 @@ def curve_at(
         load = Load("resistor", ta.voltage_v / ta.rated_current_a)
     else:
         v_cut, load = ta.voltage_v * math.sqrt(2), None
-    extra = (fmap, rotor_mass_kg)
-    at = np.asarray(rpms, dtype=float)
     return _evaluate(
         spec,
         geo,
@@ -519,7 +532,7 @@ def _evaluate(
     if load is not None:
 
         def loss(idx, t):
-            sim = _simulate(spec, layout, emf, warm(idx, t), r_phase, l_phase, rpms[idx], load, t)
+            sim = _simulate(spec, layout, emf, warm(idx, t), r_phase, l_phase, rpms[idx], load.take(idx), t)
             return sim.copper_loss_w + steel_w[idx] + eddy(idx, t)
 
         temps, over = _settled(loss, ambient, conductance, len(rpms), temps_c)
@@ -584,7 +597,7 @@ def _evaluate(
         )
         for k in range(len(rpms))
     )
-    rated = min(curve, key=lambda op: abs(op.rpm - ta.rated_rpm))
+    rated = _nearest(curve, ta.rated_rpm)
     w_rated, w_max = _omega(ta.rated_rpm), _omega(ta.max_rpm)
     mlt_m = geo.coil.mean_turn_length_mm / 1000
     n_phase_coils = layout.coils_per_phase[0]
@@ -618,6 +631,96 @@ def _evaluate(
         br_per_k=alpha,
         br_span=magnet_br_span(spec),
         ambient_c=ambient,
+    )
+
+
+def _turns_for_converter(spec, per_turn_peak: float) -> int:
+    """Most turns whose open-circuit bus at max_rpm (the runaway speed, with a source) stays
+    within `converter.SIZE_SHARE` of the converter's max_input_v: the most voltage, and so
+    the earliest start, the converter survives unloaded."""
+    ta = spec.target
+    turns = conv.most_turns(ta, per_turn_peak * _omega(ta.max_rpm))
+    if turns < 1:
+        one = per_turn_peak * _omega(ta.max_rpm) - 2 * ta.diode_drop_v
+        raise spec.fail(
+            "target.max_input_v",
+            ta.max_input_v,
+            f"one turn per coil already gives {one:.1f} V open-circuit at {ta.max_rpm:g} rpm; "
+            "choose a converter with a higher input limit, or fewer magnets or coils in series",
+        )
+    return turns
+
+
+def _converter_evaluate(
+    spec, geo, layout, emf, turns, per_turn_peak, plate, rated_only=False, extra=(None, 0.0),
+    at_rpm=None, wire=None, temps_c=None, bus_v=None,
+) -> Prediction:  # fmt: skip
+    """The output with a converter on the bus (layout.converter): at the level `bus_v` where
+    given (a source's run at one level; one per point of `at_rpm` if a sequence), else at
+    each speed the level the converter picks from `converter.BUS_LEVELS` across its window,
+    all levels evaluated in one batch."""
+    ta = spec.target
+    vf = ta.diode_drop_v
+    v_cut = conv.start_v(ta) + 2 * vf
+    per_rpm = per_turn_peak * turns * 2 * math.pi / 60
+    if bus_v is not None:
+        held = float(bus_v) if np.ndim(bus_v) == 0 else tuple(np.asarray(bus_v, dtype=float))
+        load = Load("battery", conv.BUS_OHM, held)
+        pred = _evaluate(
+            spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate,
+            extra=extra, at_rpm=at_rpm, wire=wire, temps_c=temps_c,
+        )  # fmt: skip
+        points = tuple(_converter_point(ta, op, conv.open_bus_v(per_rpm, op.rpm, vf)) for op in pred.curve)
+        return dataclasses.replace(pred, curve=points, rated=_nearest(points, ta.rated_rpm))
+    if at_rpm is not None:
+        rpms = np.asarray(at_rpm, dtype=float)
+    elif rated_only:
+        rpms = np.array([float(ta.rated_rpm)])
+    else:
+        rpms = _curve_rpms(spec, v_cut / per_rpm)
+    open_v = conv.open_bus_v(per_rpm, rpms, vf)
+    levels = conv.bus_levels(ta, open_v)
+    g = levels.shape[1]
+    pred = _evaluate(
+        spec, geo, layout, emf, turns, v_cut, Load("battery", conv.BUS_OHM, tuple(levels.ravel())),
+        per_turn_peak, plate, extra=extra, at_rpm=np.repeat(rpms, g), wire=wire,
+        temps_c=None if temps_c is None else np.repeat(np.asarray(temps_c, dtype=float), g),
+    )  # fmt: skip
+    bus_w = np.array([op.dc_power_w for op in pred.curve]).reshape(len(rpms), g)
+    best = conv.pick(ta, levels, bus_w)
+    points = [pred.curve[i * g + k] for i, k in enumerate(best)]
+    # At its limit the converter holds the bus between the last level that reaches the limit
+    # and the next: found there by interpolating the draw, and evaluated once more.
+    want = conv.limit_w(ta) / ta.efficiency
+    limited = [i for i, k in enumerate(best) if bus_w[i, k] > want and k + 1 < g and bus_w[i, k + 1] < want]
+    if limited:
+        at = np.array(limited)
+        k = best[at]
+        p0, p1 = bus_w[at, k], bus_w[at, k + 1]
+        v = levels[at, k] + (levels[at, k + 1] - levels[at, k]) * (p0 - want) / (p0 - p1)
+        again = _evaluate(
+            spec, geo, layout, emf, turns, v_cut, Load("battery", conv.BUS_OHM, tuple(v)),
+            per_turn_peak, plate, extra=extra, at_rpm=rpms[at], wire=wire,
+            temps_c=None if temps_c is None else np.asarray(temps_c, dtype=float)[at],
+        )  # fmt: skip
+        for i, op in zip(limited, again.curve, strict=True):
+            points[i] = op
+    points = tuple(_converter_point(ta, op, open_v[i]) for i, op in enumerate(points))
+    return dataclasses.replace(pred, curve=points, rated=_nearest(points, ta.rated_rpm))
+
+
+def _nearest(points, rpm: float) -> OperatingPoint:
+    return min(points, key=lambda op: abs(op.rpm - rpm))
+
+
+def _converter_point(ta, op: OperatingPoint, open_v: float) -> OperatingPoint:
+    """The bus point with what the converter delivers; an idle bus sits at the open-circuit
+    peak, not at the level the converter would hold."""
+    idle = op.dc_power_w <= 1e-6
+    return dataclasses.replace(
+        op,
+        delivered_w=float(conv.delivered_w(ta, op.dc_power_w)),
+        dc_voltage_v=float(open_v) if idle else op.dc_voltage_v,
     )
 
 

@@ -14,6 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from layout import converter as conv
 from layout.materials import STATOR_BINDERS_MAX_C
 from layout.model import OperatingPoint
 from layout.safety import Warning
@@ -39,7 +40,7 @@ class OperatingRow:
     available_w: float  # in the wind or the water (ρgQH), or the person's effort
     source_power_w: float  # shaft power into the alternator at the steady speed
     output_power_w: float  # the alternator's output (DC after the bridge, or AC)
-    load_power_w: float  # at the battery, after the cable
+    load_power_w: float  # at the battery, after the cable; or out of the converter
     efficiency: float  # output over shaft input
     stalled: bool
     point: OperatingPoint | None  # the alternator's state there; None when it does not turn
@@ -130,7 +131,37 @@ def operating_points(src: Source, evaluate, curve: tuple[OperatingPoint, ...] = 
     if len(turning):
         for k, op in zip(turning, evaluate(rpm[turning]), strict=True):
             points[k] = op
-    rows = tuple(_row(src, c, points[k]) for k, c in enumerate(conditions))
+    return _operating(src, tuple(_row(src, c, points[k]) for k, c in enumerate(conditions)))
+
+
+def converter_points(src: Source, evaluate, target, top_bus_v: float) -> Operating:
+    """Every condition's steady point with a converter on the bus (layout.converter). Held at
+    one level the bus is a constant-voltage sink and the shaft settles as with a battery, so
+    each level the converter may hold is solved as above (`evaluate(rpms, temps_c, bus_v)`)
+    and at each condition the converter's pick is taken: its best output (mppt) or input_v
+    (fixed), or at its current limit the highest level still reaching it. `top_bus_v`: the
+    open-circuit bus at the runaway speed, above which no level draws anything."""
+    levels = conv.bus_levels(target, top_bus_v)[0]
+    if target.tracking == "fixed":
+        levels = levels[:1]  # input_v; the levels above only where the limit pushes the bus up
+
+    def run(v):
+        return operating_points(src, lambda rpms, temps_c=None: evaluate(rpms, temps_c, bus_v=v))
+
+    runs = [run(v) for v in levels]
+    limit = conv.limit_w(target)
+    if target.tracking == "fixed" and any(r.load_power_w >= limit * (1 - 1e-9) for r in runs[0].rows):
+        levels = conv.bus_levels(target, top_bus_v, from_v=target.input_v)[0]
+        runs += [run(v) for v in levels[1:]]
+    bus_w = np.array([[r.output_power_w for r in run_.rows] for run_ in runs]).T
+    if len(runs) < conv.BUS_LEVELS:  # fixed, within its limit: the one level
+        pick = np.zeros(len(bus_w), dtype=int)
+    else:
+        pick = conv.pick(target, np.tile(levels, (len(bus_w), 1)), bus_w)
+    return _operating(src, tuple(runs[j].rows[k] for k, j in enumerate(pick)))
+
+
+def _operating(src: Source, rows: tuple[OperatingRow, ...]) -> Operating:
     return Operating(
         source=src,
         rows=rows,
@@ -175,7 +206,7 @@ def _row(src: Source, condition: float, op: OperatingPoint | None) -> OperatingR
         available_w=src.available_w(condition),
         source_power_w=op.shaft_power_w,
         output_power_w=op.dc_power_w,
-        load_power_w=max(op.dc_power_w - cable_w, 0.0),
+        load_power_w=op.delivered_w if op.delivered_w is not None else max(op.dc_power_w - cable_w, 0.0),
         efficiency=op.efficiency,
         stalled=stalled,
         point=op,

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from layout import converter as conv
 from layout.forces import HOOP_SAFETY_FACTOR, JACKING_FORCE_N, STEEL_B_LIMIT_T, Forces, G
 from layout.geometry import magnet_limit_c
 from layout.materials import DISC_MATERIALS, STATOR_BINDERS_MAX_C
@@ -271,7 +272,7 @@ def collect_warnings(
                 else f"not {ta.cut_in_rpm:g}: turns are too few to set it finely."
             ),
         )
-    if as_built and ta.kind != "battery" and rated.dc_voltage_v < ta.voltage_v * 0.97:
+    if as_built and ta.kind in ("dc", "ac_line") and rated.dc_voltage_v < ta.voltage_v * 0.97:
         add(
             "coils.as_built_short",
             "warning",
@@ -360,4 +361,97 @@ def collect_warnings(
         "Spinning discs store energy: guard the rotor, balance it first, make the first spins "
         "slow and stand out of the disc's plane.",
     )
+    return out
+
+
+def converter_warnings(spec: Spec, pred: Prediction, phases: int, runaway: bool) -> list[Warning]:
+    """What a converter on the bus (layout.converter) risks: an idle bus above its input limit
+    at a reachable speed (`runaway`: max_rpm is the source's runaway speed), a start too late
+    to deliver at the rated speed, the output held at its limit, the bus capacitor's ripple
+    and the charge it keeps."""
+    ta = spec.target
+    if ta.kind != "converter":
+        return []
+    out: list[Warning] = []
+    vf = ta.diode_drop_v
+    per_rpm = pred.open_circuit_dc_peak_at_max_v / ta.max_rpm
+    top = conv.idle_bus_v(pred, ta)
+    where = f"{ta.max_rpm:g} rpm" + (", the runaway speed," if runaway else "")
+    if top > ta.max_input_v:
+        from_rpm = (ta.max_input_v + 2 * vf) / per_rpm
+        out.append(
+            Warning(
+                "converter.overvoltage",
+                "danger",
+                f"From {from_rpm:.0f} rpm the bus an idle converter sees (the rectified open-circuit peak "
+                f"less the bridge's drops) passes its {ta.max_input_v:g} V input limit (target.max_input_v): "
+                f"at {where} it reaches {top:.0f} V. A converter at its current limit, behind a full "
+                "battery or switched off stops drawing, and that voltage destroys it. Wind fewer turns, "
+                f"fit a clamp or dump load that holds the bus below {ta.max_input_v:g} V, or choose a "
+                f"converter rated for {conv.capacitor_rating_v(top):.0f} V.",
+            )
+        )
+    start = pred.cut_in_rpm
+    if start >= ta.rated_rpm:
+        best = max((op.delivered_w or 0.0) for op in pred.curve)
+        out.append(
+            Warning(
+                "converter.late_start",
+                "warning",
+                f"The converter starts only at {start:.0f} rpm, where the open bus reaches its "
+                f"{conv.start_v(ta):g} V: at the rated {ta.rated_rpm:g} rpm it delivers nothing"
+                + (f", and at most {best:.0f} W by {ta.max_rpm:g} rpm" if best > 0.5 else " at any speed")
+                + f". Its window ({ta.min_input_v:g}–{ta.max_input_v:g} V) is narrow for a machine that "
+                f"must also survive {ta.max_rpm:g} rpm unloaded: choose a converter with a wider window, "
+                "or hold the top speed down (furl, brake or govern).",
+            )
+        )
+    limit = conv.limit_w(ta)
+    held = next((op for op in pred.curve if (op.delivered_w or 0.0) >= limit * (1 - 1e-6)), None)
+    if held is not None:
+        out.append(
+            Warning(
+                "converter.at_limit",
+                "info",
+                f"From about {held.rpm:.0f} rpm the converter delivers its limit, {limit:.0f} W "
+                f"({ta.max_output_current_a:g} A at {ta.output_v:g} V): it draws less and lets the bus "
+                f"rise (to {held.dc_voltage_v:.0f} V there), so the shaft is lightly loaded and speeds up.",
+            )
+        )
+    rated = pred.rated
+    c_uf = ta.bus_capacitor_uf
+    hz = pred.electrical_hz_at_rated
+    if c_uf is not None and rated.dc_current_a > 0:
+        ripple = conv.ripple_v(rated.dc_current_a, hz, phases, c_uf)
+        if ripple > conv.RIPPLE_SHARE * rated.dc_voltage_v:
+            need = conv.capacitor_for_ripple_uf(
+                rated.dc_current_a, hz, phases, conv.RIPPLE_SHARE * rated.dc_voltage_v
+            )
+            how = (
+                f"ripples by about {ripple:.1f} V peak to peak on {rated.dc_voltage_v:.1f} V"
+                if ripple < rated.dc_voltage_v
+                else f"cannot hold the {rated.dc_voltage_v:.1f} V bus between the bridge's pulses"
+            )
+            out.append(
+                Warning(
+                    "converter.ripple",
+                    "warning",
+                    f"At {rated.rpm:g} rpm the {c_uf:g} µF bus capacitor {how} ({rated.dc_current_a:.1f} A "
+                    f"at {hz:.0f} Hz electrical), more than {conv.RIPPLE_SHARE:.0%}: the bus dips under the "
+                    f"level this prediction holds it at, and the output falls short of it. About "
+                    f"{need:.0f} µF keeps the ripple within {conv.RIPPLE_SHARE:.0%}.",
+                )
+            )
+    if c_uf is not None:
+        joules = 0.5 * c_uf * 1e-6 * top**2
+        out.append(
+            Warning(
+                "converter.stored_charge",
+                "danger" if top > ELV_DC_V else "info",
+                f"The {c_uf:g} µF bus capacitor can charge to {top:.0f} V ({joules:.1f} J) and stays "
+                "charged after the machine stops: rate it for at least "
+                f"{conv.capacitor_rating_v(top):.0f} V, "
+                "fit a bleed resistor across it, and check it reads near 0 V before touching the bus.",
+            )
+        )
     return out

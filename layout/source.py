@@ -202,7 +202,8 @@ def resolve(so: SourceSpec) -> Source:
         best = u / (math.pi * so.runner_diameter_mm / 1000) * 60 * so.drive_ratio
         return Source(so, drive, eta, best, 2 * best, "at the turbine's runaway speed")
     best = so.cadence_rpm * so.drive_ratio
-    return Source(so, drive, None, best, 2 * best, "spun as fast as the rider can")
+    who = "spun as fast as the rider can" if so.kind == "pedal" else "cranked as fast as the person can"
+    return Source(so, drive, None, best, 2 * best, who)
 
 
 def weibull_scale(mean_m_s: float, k: float) -> float:

@@ -153,9 +153,16 @@ class ConnectionSpec:
     parallel_paths: int = rule(1, ge=1, le=96)
 
 
+TARGET_KINDS = ("battery", "dc", "ac_line", "converter")
+TRACKING_MODES = ("mppt", "fixed")
+CONVERTER_KEYS = (
+    "min_input_v", "max_input_v", "output_v", "max_output_current_a", "bus_capacitor_uf", "input_v",
+)  # fmt: skip
+
+
 @dataclass(frozen=True)
 class TargetSpec:
-    kind: str = rule(choices=("battery", "dc", "ac_line"))
+    kind: str = rule(choices=TARGET_KINDS)
     rated_rpm: float = rule(ge=1, le=20000)
     max_rpm: float = rule(ge=1, le=20000)
     battery_v: float | None = rule(None, ge=1, le=1000, why="in volts, not millivolts")
@@ -167,6 +174,15 @@ class TargetSpec:
     )
     diode_drop_v: float = rule(0.9, ge=0, le=3, why="silicon 0.7–1.0 V, Schottky 0.3–0.5 V")
     ambient_c: float = rule(25.0, ge=-40, le=60)
+    # converter: a DC-DC converter or charge controller on the rectified bus (layout.converter)
+    min_input_v: float | None = rule(None, ge=1, le=1000, why="the converter's lowest input, in volts")
+    max_input_v: float | None = rule(None, ge=2, le=1500, why="the converter's highest input, in volts")
+    efficiency: float = rule(0.9, ge=0.5, le=0.99, why="small converters run at 0.85–0.95")
+    output_v: float | None = rule(None, ge=1, le=1000, why="what the converter delivers, in volts")
+    max_output_current_a: float | None = rule(None, ge=0.05, le=500)
+    bus_capacitor_uf: float | None = rule(None, ge=1, le=1e6, why="in microfarads")
+    tracking: str = rule("mppt", choices=TRACKING_MODES)
+    input_v: float | None = rule(None, ge=1, le=1500, why='the bus voltage tracking = "fixed" holds')
 
 
 BETZ_LIMIT = 16 / 27  # the most power a rotor in open flow can take from the wind (Betz 1920)
@@ -458,10 +474,16 @@ def _check_consistency(spec: Spec) -> None:
                 ta.cut_in_rpm,
                 f"must be below target.rated_rpm ({ta.rated_rpm:g})",
             )
+    elif ta.kind == "converter":
+        _check_converter(spec)
     else:
         for key in ("voltage_v", "rated_current_a"):
             if getattr(ta, key) is None:
                 raise spec.fail(f"target.{key}", None, f'required for target.kind = "{ta.kind}"')
+    if ta.kind != "converter":
+        for key in CONVERTER_KEYS:
+            if getattr(ta, key) is not None:
+                raise spec.fail(f"target.{key}", getattr(ta, key), 'only for target.kind = "converter"')
     if ta.kind == "ac_line" and st.phases == 1:
         raise spec.fail("target.kind", ta.kind, 'single phase: use "battery" or "dc"')
     steel_stator = ro.topology == "one_disc_steel_stator"
@@ -598,6 +620,28 @@ def _check_source(spec: Spec) -> None:
             so.cable_length_m,
             'the cable is modelled for target.kind = "battery" only; leave it out',
         )
+
+
+def _check_converter(spec: Spec) -> None:
+    ta = spec.target
+    for key in ("min_input_v", "max_input_v", "output_v", "max_output_current_a"):
+        if getattr(ta, key) is None:
+            raise spec.fail(f"target.{key}", None, 'required for target.kind = "converter"')
+    if ta.max_input_v <= ta.min_input_v:
+        raise spec.fail(
+            "target.max_input_v", ta.max_input_v, f"must be above target.min_input_v ({ta.min_input_v:g})"
+        )
+    if ta.tracking == "fixed":
+        if ta.input_v is None:
+            raise spec.fail("target.input_v", None, 'required for target.tracking = "fixed"')
+        if not ta.min_input_v <= ta.input_v <= ta.max_input_v:
+            raise spec.fail(
+                "target.input_v",
+                ta.input_v,
+                f"must lie in the converter's input window, {ta.min_input_v:g} to {ta.max_input_v:g} V",
+            )
+    elif ta.input_v is not None:
+        raise spec.fail("target.input_v", ta.input_v, 'only for target.tracking = "fixed"')
 
 
 def unit_slip_hint(spec: Spec) -> str:
