@@ -7,7 +7,9 @@ import json
 import math
 from collections.abc import Sequence
 
+from layout import converter as conv
 from layout.advice import advised_codes
+from layout.converter import converter_words
 from layout.design import Design
 from layout.forces import STEEL_B_LIMIT_T, G
 from layout.model import TEMPERATURE_CAP_C
@@ -227,9 +229,31 @@ def electrical_json(design: Design) -> dict:
                 # null where the steady state lies past the cap: no figure is claimed there
                 "coil_temperature_c": None if op.temperature_over_cap else _r(op.coil_temperature_c, 1),
                 "open_circuit_line_rms_v": _r(op.open_circuit_line_rms_v, 3),
+                **({} if op.delivered_w is None else {"delivered_w": _r(op.delivered_w, 3)}),
             }
             for op in pr.curve
         ],
+        **_converter_json(design),
+    }
+
+
+def _converter_json(design: Design) -> dict:
+    """`converter`: what the converter on the bus does (target.kind = "converter"), else nothing."""
+    ta, pr = design.spec.target, design.prediction
+    if ta.kind != "converter":
+        return {}
+    top = conv.idle_bus_v(pr, ta)
+    return {
+        "converter": {
+            "tracking": ta.tracking,
+            "input_window_v": [ta.min_input_v, ta.max_input_v],
+            "start_rpm": _r(pr.cut_in_rpm, 1),  # where the open bus reaches the converter's start
+            "open_bus_at_max_v": _r(top, 3),  # what an idle converter sees at max_rpm
+            "limit_w": _r(conv.limit_w(ta), 3),
+            "rated_bus_v": _r(pr.rated.dc_voltage_v, 3),
+            "rated_delivered_w": _r(pr.rated.delivered_w, 3),
+            "capacitor_rating_v": conv.capacitor_rating_v(top),
+        }
     }
 
 
@@ -316,6 +340,7 @@ def source_json(design: Design) -> dict:
     if src.turbine_efficiency is not None:
         resolved["turbine_efficiency"] = src.turbine_efficiency
     rows = []
+    bus = design.spec.target.kind == "converter"
     for r in op.rows:
         row = {src.condition_key: _r(r.condition, 3)}
         if src.kind in ("pedal", "crank"):
@@ -328,6 +353,7 @@ def source_json(design: Design) -> dict:
             "source_power_w": _r(r.source_power_w, 2),
             "output_power_w": _r(r.output_power_w, 2),
             "load_power_w": _r(r.load_power_w, 2),
+            **({"bus_v": _r(r.point.dc_voltage_v if r.point else 0.0, 3)} if bus else {}),
             "efficiency": _r(r.efficiency, 4),
             "stalled": r.stalled,
         }
@@ -389,14 +415,17 @@ def _source_text(design: Design) -> str:
     wind = src.kind == "wind"
     cable = src.spec.cable_length_m > 0
     person = src.kind in ("pedal", "crank")
+    bus = design.spec.target.kind == "converter"
     headings = [
         key,
         *(["cadence_rpm"] if person else []),
         "rpm",
         *(["tsr", "cp"] if wind else []),
         "source_w",
+        *(["bus_v"] if bus else []),
         "output_w",
         *(["battery_w"] if cable else []),
+        *(["delivered_w"] if bus else []),
         "efficiency",
         "coil_c",
         "",
@@ -418,8 +447,9 @@ def _source_text(design: Design) -> str:
                 int(round(r.rpm)),
                 *([f"{r.tsr:.1f}", f"{r.cp:.2f}"] if wind else []),
                 f"{r.source_power_w:.1f}",
+                *([f"{pt.dc_voltage_v:.1f}" if pt is not None else ""] if bus else []),
                 f"{r.output_power_w:.1f}",
-                *([f"{r.load_power_w:.1f}"] if cable else []),
+                *([f"{r.load_power_w:.1f}"] if cable or bus else []),
                 f"{r.efficiency:.0%}",
                 coil,
                 "stalls" if r.stalled else "",
@@ -439,8 +469,14 @@ def _source_text(design: Design) -> str:
     title = {
         "wind": "Where it runs in each wind (steady speed: the blades' power meets the alternator's)",
         "water": "Where it runs at each flow (steady speed on the turbine's torque line)",
-    }.get(src.kind, "Where it runs at each effort (steady cadence on the rider's torque line)")
+        "pedal": "Where it runs at each effort (steady cadence on the rider's torque line)",
+    }.get(src.kind, "Where it runs at each effort (steady cadence on the torque line of the person cranking)")
     lines = [table(headings, rows, title)]
+    if bus:
+        lines.append(
+            "bus_v: the level the converter settles the bus at there; output_w goes into it, "
+            "delivered_w comes out."
+        )
     lines += source_sentences(design)
     if design.given_max_rpm is not None:
         lines.append(
@@ -564,6 +600,8 @@ def _output_text(design: Design) -> str:
     ta = spec.target
     if ta.kind == "battery":
         what = f"battery {ta.battery_v:g} V, cut-in {pr.cut_in_rpm:.0f} rpm (target {ta.cut_in_rpm:g})"
+    elif ta.kind == "converter":
+        what = converter_words(ta) + f"; it starts at {pr.cut_in_rpm:.0f} rpm"
     elif ta.kind == "dc":
         what = f"{ta.voltage_v:g} V DC at {ta.rated_current_a:g} A, {ta.rated_rpm:g} rpm (resistive load)"
     else:
@@ -582,12 +620,14 @@ def _output_text(design: Design) -> str:
         ),
     ]
     ac = ta.kind == "ac_line"
+    conv_out = ta.kind == "converter"
     plate = any(op.steel_loss_w > 0 for op in pr.curve)  # a stationary steel plate
     headings = [
         "rpm",
         "V_ac_line" if ac else "V_dc",
         "I_line_a" if ac else "I_dc_a",
         "P_w",
+        *(["out_w"] if conv_out else []),
         "copper_w",
         *([] if ac else ["rectifier_w"]),  # a line load has no bridge
         *(["steel_w"] if plate else []),
@@ -604,6 +644,7 @@ def _output_text(design: Design) -> str:
             op.dc_voltage_v,
             op.dc_current_a,
             op.dc_power_w,
+            *([op.delivered_w] if conv_out else []),
             op.copper_loss_w,
             *([] if ac else [op.rectifier_loss_w]),
             *([op.steel_loss_w] if plate else []),
@@ -627,6 +668,21 @@ def _output_text(design: Design) -> str:
             "\nsteel_w: eddy and hysteresis loss of the stationary steel plate under the moving "
             "magnets (limiting theory, a rough estimate)."
         )
+    if conv_out:
+        note += (
+            "\nV_dc, I_dc_a, P_w: the bus the converter holds (idle: the open-circuit peak); out_w: what it "
+            f"delivers, {ta.efficiency:.0%} of P_w, at most {conv.limit_w(ta):.0f} W."
+        )
+        if ta.tracking == "mppt":
+            note += (
+                "\nEach row holds its speed whatever the torque, so tracking takes the most the machine "
+                "gives there (about half the open-circuit bus, where the copper takes about as much as "
+                "the output); where a source turns it, see where it settles below."
+                if design.operating is not None
+                else "\nEach row holds its speed whatever the torque, so tracking takes the most the "
+                "machine gives there (about half the open-circuit bus, where the copper takes about as "
+                "much as the output); a [source] table lets it settle where the source gives most."
+            )
     note += (
         "\neddy_w: eddy currents in the wire itself; mech_w: bearings and windage (rough); "
         "efficiency is output over shaft_w, the power the shaft must bring."

@@ -5,7 +5,9 @@ from __future__ import annotations
 from fab.sheet.document import MM, _Ctx, _key_value_table, _p, _table
 from fab.sheet.magnet_maps import _between_pockets
 from fab.sheet.words import _disc_name, _magnet_words, _pocket_word
+from layout import converter as conv
 from layout.bill import RESIN_MARGIN_PCT, WIRE_MARGIN_PCT
+from layout.converter import converter_words
 from layout.design import Design
 from layout.materials import DISC_MATERIALS
 from layout.rotor import (
@@ -123,6 +125,18 @@ def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
                 f"at least {br.voltage_v:.0f} V, {br.current_a:.0f} A; on a heat sink",
             )
         )
+    ta = spec.target
+    if ta.kind == "converter":
+        top = conv.idle_bus_v(pr, ta)
+        size = f"{ta.bus_capacitor_uf:g} µF, " if ta.bus_capacitor_uf is not None else ""
+        rows.append(
+            (
+                "bus capacitor",
+                "1",
+                f"{size}rated at least {conv.capacitor_rating_v(top):.0f} V; with a bleed resistor",
+            )
+        )
+        rows.append(("converter", "1", converter_words(ta)))
     return rows
 
 

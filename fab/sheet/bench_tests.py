@@ -15,6 +15,7 @@ from fab.sheet.words import (
     cut_in_rpm_stated,
     open_circuit_rms_v,
 )
+from layout import converter as conv
 from layout.circuit import line_resistance_ohm
 from layout.design import Design
 from layout.materials import STATOR_BINDERS_MAX_C
@@ -44,7 +45,7 @@ def bench_voltages(design: Design) -> dict[tuple[str, float], float]:
     ta, rated = design.spec.target, design.prediction.rated
     speeds = [*_bench_speeds(design), PER_RPM, ta.max_rpm]
     out = {("open circuit", rpm): open_circuit_rms_v(design, rpm) for rpm in speeds}
-    if ta.kind != "battery":
+    if ta.kind in ("dc", "ac_line"):
         out["loaded", rated.rpm] = rated.dc_voltage_v
     return out
 
@@ -149,6 +150,24 @@ def _test_plan(ctx: _Ctx) -> list:
             "cut-in",
             "battery connected through the bridge and fuse; raise the speed slowly",
             f"charging current starts near {pr.cut_in_rpm:.0f} rpm",
+            "______ rpm",
+        )
+    elif ta.kind == "converter":
+        top = conv.idle_bus_v(pr, ta)
+        add(
+            "open bus",
+            "DC volts across the bus capacitor, bridge connected and the converter NOT yet connected, "
+            f"at {ta.rated_rpm:g} rpm",
+            f"{conv.idle_bus_v(pr, ta, ta.rated_rpm):.1f} V; "
+            f"it must stay under the converter's {ta.max_input_v:g} V limit at every speed the machine "
+            f"can reach ({top:.0f} V at {ta.max_rpm:g} rpm)",
+            "______ V",
+        )
+        add(
+            "converter starts",
+            "the converter connected, output to its load; raise the speed slowly",
+            f"output starts near {pr.cut_in_rpm:.0f} rpm; at {pr.rated.rpm:g} rpm about "
+            f"{pr.rated.delivered_w:.0f} W at {ta.output_v:g} V",
             "______ rpm",
         )
     else:

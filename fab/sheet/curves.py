@@ -7,6 +7,7 @@ from __future__ import annotations
 from fab.sheet.charts import _DASH_DOT, _DASHED, _DOTTED, _SOLID, _chart, _Mark, _Series
 from fab.sheet.document import MM, SANS, _Ctx, _p
 from fab.sheet.words import _terminals
+from layout import converter as conv
 from layout.winding import TERMINAL_LETTERS
 
 
@@ -23,6 +24,8 @@ def _curves(ctx: _Ctx) -> list:
         "vmarks": (
             [_Mark(pr.cut_in_rpm, f"cut-in {pr.cut_in_rpm:.0f} rpm", _DASH_DOT)]
             if ta.kind == "battery"
+            else [_Mark(pr.cut_in_rpm, f"converter starts {pr.cut_in_rpm:.0f} rpm", _DASH_DOT)]
+            if ta.kind == "converter"
             else []
         )
         + [_Mark(ta.rated_rpm, f"rated {ta.rated_rpm:g} rpm", _DASHED)],
@@ -34,6 +37,8 @@ def _curves(ctx: _Ctx) -> list:
         oc.append(_Series("rectified open circuit (peak)", rpm, peak, _DASHED, "s"))
     if ta.kind == "battery":
         level = _Mark(ta.battery_v, f"battery {ta.battery_v:g} V", _DOTTED)
+    elif ta.kind == "converter":
+        level = _Mark(ta.max_input_v, f"converter's limit {ta.max_input_v:g} V", _DOTTED)
     else:
         level = _Mark(ta.voltage_v, f"target {ta.voltage_v:g} V", _DOTTED)
     # Below cut-in the model leaves a trace of current; efficiency means nothing there.
@@ -41,17 +46,27 @@ def _curves(ctx: _Ctx) -> list:
     loaded = [op for op in pts if op.dc_power_w > 1e-3 * top_power]
     half = ctx.frame_w / 2 - 2 * MM
     speed["legend_rows"] = 2
-    into = "into the load" if ta.kind != "battery" else "into the battery"
+    into = {"battery": "into the battery", "converter": "into the converter"}.get(ta.kind, "into the load")
     current = _Series(
         f"{'line' if ac else 'DC'} current {into}", rpm, [op.dc_current_a for op in pts], _SOLID, "o"
     )
-    power = _Series(
-        f"{'output' if ac else 'DC'} power {into}", rpm, [op.dc_power_w for op in pts], _SOLID, "s"
-    )
+    power = [
+        _Series(f"{'output' if ac else 'DC'} power {into}", rpm, [op.dc_power_w for op in pts], _SOLID, "s")
+    ]
+    if ta.kind == "converter":
+        power.append(
+            _Series(
+                f"out of the converter at {ta.output_v:g} V",
+                rpm,
+                [op.delivered_w for op in pts],
+                _DASHED,
+                "o",
+            )
+        )
     figs = [
         _chart(half, title="Open-circuit voltage", ylabel="V", series=oc, hmarks=[level], **speed),
         _chart(half, title="Line current" if ac else "DC current", ylabel="A", series=[current], **speed),
-        _chart(half, title="Output power" if ac else "DC power", ylabel="W", series=[power], **speed),
+        _chart(half, title="Output power" if ac else "DC power", ylabel="W", series=power, **speed),
     ]
     if len(loaded) >= 2:
         eff = _Series(
@@ -67,6 +82,10 @@ def _curves(ctx: _Ctx) -> list:
         f" Below cut-in ({pr.cut_in_rpm:.0f} rpm) the rectified voltage is under the battery's plus two "
         "diode drops and no current flows."
         if ta.kind == "battery"
+        else f" Below {pr.cut_in_rpm:.0f} rpm the rectified voltage is under the converter's start "
+        f"({conv.start_v(ta):g} V) plus two diode drops and it draws nothing; the bus holds the level the "
+        "converter picks."
+        if ta.kind == "converter"
         else ""
     )
     out.append(

@@ -76,13 +76,16 @@ def _source_page(ctx: _Ctx) -> list:
     )
     wind = kind == "wind"
     cable = src.spec.cable_length_m > 0
+    bus = d.spec.target.kind == "converter"
     head = [
         src.condition_unit,
         "rpm",
         *(["tip-speed ratio", "Cp"] if wind else []),
         "source W",
+        *(["bus V"] if bus else []),
         "output W",
         *(["at battery W"] if cable else []),
+        *(["delivered W"] if bus else []),
         "efficiency",
         "coils °C",
         "",
@@ -106,8 +109,9 @@ def _source_page(ctx: _Ctx) -> list:
             f"{r.rpm:.0f}",
             *([f"{r.tsr:.1f}", f"{r.cp:.2f}"] if wind else []),
             f"{r.source_power_w:.0f}",
+            *([f"{p.dc_voltage_v:.1f}" if p is not None else ""] if bus else []),
             f"{r.output_power_w:.0f}",
-            *([f"{r.load_power_w:.0f}"] if cable else []),
+            *([f"{r.load_power_w:.0f}"] if cable or bus else []),
             f"{r.efficiency:.0%}" if p is not None else "",
             coils,
             "stalls" if r.stalled else "",

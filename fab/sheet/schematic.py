@@ -90,16 +90,30 @@ def _draw_bridge(c, x: float, inputs: Sequence[tuple[str, float]]) -> tuple[floa
 
 
 def _draw_output(c, d: Design, x: float, y_p: float, y_n: float) -> None:
-    """Fuse in the positive lead, then the battery or the load."""
+    """Fuse in the positive lead, then the battery or the load; a converter's bus capacitor
+    across the rails before the fuse."""
     ta = d.spec.target
     c.setLineWidth(0.9)
+    if ta.kind == "converter":
+        cx, mid = x + 4 * MM, (y_p + y_n) / 2
+        c.line(cx, y_p, cx, mid + 1 * MM)
+        c.line(cx, y_n, cx, mid - 1 * MM)
+        c.setLineWidth(1.4)
+        c.line(cx - 3 * MM, mid + 1 * MM, cx + 3 * MM, mid + 1 * MM)
+        c.line(cx - 3 * MM, mid - 1 * MM, cx + 3 * MM, mid - 1 * MM)
+        c.setLineWidth(0.9)
+        c.setFont(SANS, 7)
+        c.drawString(cx + 4 * MM, mid - 1, "bus C")
+        x += 8 * MM
+        c.line(x - 8 * MM, y_p, x, y_p)
+        c.line(x - 8 * MM, y_n, x, y_n)
     fx = x + 8 * MM
     c.line(x, y_p, fx, y_p)
     c.rect(fx, y_p - 1.3 * MM, 8 * MM, 2.6 * MM)
     c.line(fx, y_p, fx + 8 * MM, y_p)
     c.setFont(SANS, 7)
     c.drawCentredString(fx + 4 * MM, y_p + 2.2 * MM, "fuse")
-    bx = fx + 24 * MM
+    bx = fx + (16 if ta.kind == "converter" else 24) * MM  # the capacitor took the difference
     c.line(fx + 8 * MM, y_p, bx, y_p)
     c.line(x, y_n, bx, y_n)
     mid = (y_p + y_n) / 2
@@ -120,7 +134,12 @@ def _draw_output(c, d: Design, x: float, y_p: float, y_n: float) -> None:
         c.line(bx, y_n, bx, mid - 5 * MM)
         c.rect(bx - 2 * MM, mid - 5 * MM, 4 * MM, 10 * MM)
         c.setFont(SANS, 8)
-        c.drawString(bx + 4 * MM, mid - 1, _plain(f"load {ta.voltage_v:g} V DC, {ta.rated_current_a:g} A"))
+        what = (
+            f"converter {ta.min_input_v:g}\u2013{ta.max_input_v:g} V in, {ta.output_v:g} V out"
+            if ta.kind == "converter"
+            else f"load {ta.voltage_v:g} V DC, {ta.rated_current_a:g} A"
+        )
+        c.drawString(bx + 4 * MM, mid - 1, _plain(what))
 
 
 def _draw_winding(c, x: float, y: float, w: float) -> None:

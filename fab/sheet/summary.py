@@ -9,6 +9,7 @@ from xml.sax.saxutils import escape
 from fab.report import energy_words, suggestion_lines
 from fab.sheet.document import MM, Files, _Ctx, _fmt_ohm, _key_value_table, _p, _pm, _table
 from fab.sheet.words import DEFER, _magnet_words, _wire_words, cut_in_rpm_stated, open_circuit_rms_v
+from layout.converter import converter_words
 from layout.design import Design
 
 
@@ -34,6 +35,8 @@ def _target_words(design: Design) -> str:
         return f"charge a {ta.battery_v:g} V battery through a diode bridge"
     if ta.kind == "dc":
         return f"{ta.voltage_v:g} V DC at {ta.rated_current_a:g} A through a diode bridge"
+    if ta.kind == "converter":
+        return f"a diode bridge and bus capacitor feeding a {converter_words(ta)}"
     return f"{ta.voltage_v:g} V AC line at {ta.rated_current_a:g} A, no rectifier"
 
 
@@ -60,9 +63,10 @@ def _cut_in_words(design: Design) -> str:
     pr = design.prediction
     rpm = cut_in_rpm_stated(design)
     v = summary_voltages(design)["open circuit", rpm]
+    what = "battery" if design.spec.target.kind == "battery" else "the converter's start"
     return (
         f"{rpm:g} rpm: the rectified open-circuit voltage reaches {pr.cut_in_voltage_v:.1f} V "
-        f"(battery plus two diode drops), {v:.1f} V {_line_word(design)} rms"
+        f"({what} plus two diode drops), {v:.1f} V {_line_word(design)} rms"
     )
 
 
@@ -148,10 +152,16 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
             f"{volts['open circuit', ta.max_rpm]:.0f} V at {ta.max_rpm:g} rpm (the highest speed)",
         ),
         *([("cut-in", _cut_in_words(d))] if ta.kind == "battery" else []),
+        *([("converter starts", _cut_in_words(d))] if ta.kind == "converter" else []),
         (
             f"rated output at {rated.rpm:g} rpm",
             f"{volts['loaded', rated.rpm]:.1f} V, {rated.dc_current_a:.2f} A, {rated.dc_power_w:.0f} W "
-            + output_kind,
+            + output_kind
+            + (
+                f" into the converter; {rated.delivered_w:.0f} W out at {ta.output_v:g} V"
+                if rated.delivered_w is not None
+                else ""
+            ),
         ),
         ("efficiency at rated speed", f"{rated.efficiency:.0%} ({losses})"),
         (

@@ -10,6 +10,7 @@ import math
 from fab.sheet.document import MM, SANS_BOLD, _Ctx, _figure, _p, _plain
 from fab.sheet.schematic import _dot, _draw_coil, _draw_connection, _terminal
 from fab.sheet.words import _terminals
+from layout import converter as conv
 from layout.circuit import BRIDGE_CURRENT_FACTOR
 from layout.design import Design
 
@@ -163,6 +164,24 @@ def _connection_notes(d: Design) -> list[str]:
         )
     elif ta.kind == "dc":
         notes.append("Put a fuse in the positive lead, sized for the cable and the load.")
+    elif ta.kind == "converter":
+        top = conv.idle_bus_v(pr, ta)
+        cap = (
+            f"the {ta.bus_capacitor_uf:g} µF bus capacitor"
+            if ta.bus_capacitor_uf is not None
+            else "a bus capacitor (its size is not in the design file: see the converter's manual)"
+        )
+        notes.append(
+            f"Bus: the bridge's + and − go to {cap}, rated at least {conv.capacitor_rating_v(top):.0f} V "
+            f"with a bleed resistor across it, then through a fuse to the converter's input "
+            f"({ta.min_input_v:g}–{ta.max_input_v:g} V). Idle, the bus rises to {top:.0f} V at "
+            f"{ta.max_rpm:g} rpm"
+            + (
+                f": above the converter's {ta.max_input_v:g} V. Fit a clamp or dump load before connecting."
+                if top > ta.max_input_v
+                else f", under its {ta.max_input_v:g} V limit; measure it before connecting the converter."
+            )
+        )
     else:
         notes.append("The lines go straight to the AC load, through a fused isolator.")
     return notes

@@ -35,8 +35,8 @@ def open_circuit_rms_v(design: Design, rpm: float) -> float:
 
 def cut_in_rpm_stated(design: Design) -> float | None:
     """The cut-in speed as the pages state it and the bench checks it (whole rpm); None but
-    for a battery, the only load that holds a voltage for the machine to reach."""
-    if design.spec.target.kind != "battery":
+    for a battery or a converter, the loads that hold a voltage for the machine to reach."""
+    if design.spec.target.kind not in ("battery", "converter"):
         return None
     return float(round(design.prediction.cut_in_rpm))
 
