@@ -10,7 +10,7 @@ from layout.design import Design, compute_design
 from layout.spec import Spec, load_spec
 
 DESIGNS = Path(__file__).resolve().parents[1] / "designs"
-DEMOS = ("hilltop", "millrace", "pedalbox")
+DEMOS = ("hilltop", "millrace", "pedalbox", "fieldkit")
 # Hilltop with a stationary steel plate behind the stator in place of its plain steel disc:
 # the one-disc machine whose steel stands still (eddy and hysteresis loss, layout.steel).
 PLATE = (

@@ -172,7 +172,13 @@ def test_pairs_sorted_by_winding_factor(ok_json):
 #   0.866 too (every coil of a phase on one angle, k_p = sin(8·180°/12) = sin 120°).
 # pedalbox 8/8 single phase: phasors alternate 0°/180°, alternate coils reversed give
 #   k_d = 1; each coil spans one pole, k_p = sin 90° = 1.
-DEMO_KW = {"hilltop": math.sqrt(3) / 2, "millrace": math.sqrt(3) / 2, "pedalbox": 1.0}
+# fieldkit 9/12: the same unit machine as hilltop, 0.866.
+DEMO_KW = {
+    "hilltop": math.sqrt(3) / 2,
+    "millrace": math.sqrt(3) / 2,
+    "pedalbox": 1.0,
+    "fieldkit": math.sqrt(3) / 2,
+}
 
 
 @pytest.mark.parametrize("demo", DEMOS)

@@ -354,6 +354,7 @@ def cable_ohm(spec) -> float:
 @pytest.mark.parametrize("demo", DEMOS)
 def test_coil_temperature_is_a_converged_fixed_point(demo):
     from layout.circuit import Load, simulate_rectifier
+    from layout.converter import BUS_OHM
     from layout.model import _CONNECTION, TEMPERATURE_CAP_C, magnet_br_coefficient_per_k
     from layout.thermal import stator_heat_paths
     from layout.wire import copper_resistivity
@@ -384,6 +385,9 @@ def test_coil_temperature_is_a_converged_fixed_point(demo):
             # the battery's own resistance and the cable's loop (2·L/(58·A), IEC 60028 copper)
             Load("battery", ta.battery_resistance_ohm + cable_ohm(spec), ta.battery_v)
             if ta.kind == "battery"
+            # a converter holds the bus at the level the point reports (idle: nothing flows)
+            else Load("battery", BUS_OHM, op.dc_voltage_v)
+            if ta.kind == "converter"
             else Load("resistor", ta.voltage_v / ta.rated_current_a)
         )
         w = op.rpm * 2 * np.pi / 60

@@ -43,6 +43,11 @@ ALL_CODES = {
     "source.runaway",
     "source.no_output",
     "rotor.spinning",
+    "converter.overvoltage",
+    "converter.late_start",
+    "converter.at_limit",
+    "converter.ripple",
+    "converter.stored_charge",
 }
 ACTION_VERBS = (
     "use", "raise", "lower", "fit", "make", "handle", "keep", "guard", "limit", "choose",
@@ -67,6 +72,10 @@ VARIANTS = [
     ("millrace",),
     ("pedalbox",),
     ("pedalbox", ("target.max_rpm", 3000.0)),
+    ("fieldkit",),
+    ("fieldkit", ("target.bus_capacitor_uf", 470.0)),  # too small a bus capacitor: ripple
+    # a window too narrow for the speed range: the converter starts past the rated speed
+    ("fieldkit", ("target.tracking", "mppt"), ("target.input_v", None), ("target.min_input_v", 24.0)),
     PLA_FAST,
     ("millrace", ("rotor.disc_thickness_mm", 3.0)),
     ("millrace", ("rotor.topology", "one_disc_coreless")),
@@ -106,6 +115,16 @@ def doctored_warnings():
     return collect_warnings(d.spec, lay, pr, f)
 
 
+def bus_over():
+    """fieldkit with coils as built of twice the turns it sizes: the idle bus passes the
+    converter's input limit."""
+    turns = design("fieldkit").prediction.turns_per_coil * 2
+    spec = dataclasses.replace(
+        variant("fieldkit", ("coils.turns_per_coil", turns)), coils_given=("turns_per_coil",)
+    )
+    return compute_design(spec)
+
+
 def as_built_short():
     """pedalbox with coils as built of two thirds the turns it needs: short of its target."""
     turns = design("pedalbox").prediction.turns_per_coil * 2 // 3
@@ -117,7 +136,7 @@ def as_built_short():
 
 def every_warning():
     out = [w for args in VARIANTS for w in design(*args).warnings]
-    return out + doctored_warnings() + list(as_built_short().warnings)
+    return out + doctored_warnings() + list(as_built_short().warnings) + list(bus_over().warnings)
 
 
 # --- always there ------------------------------------------------------------------------

@@ -386,11 +386,19 @@ def test_curves_mark_cut_in_and_the_battery(sheets, designs, demo):
     d = designs[demo]
     text = section(sheets[demo, "a4"][1], "Curves")
     ta = d.spec.target
-    # Cut-in is defined only where a battery holds the voltage; a resistor draws from the start.
+    # Cut-in is defined only where a battery or a converter holds the voltage; a resistor draws
+    # from the start.
     assert (f"cut-in {d.prediction.cut_in_rpm:.0f} rpm" in text) == (ta.kind == "battery")
+    assert (f"converter starts {d.prediction.cut_in_rpm:.0f} rpm" in text) == (ta.kind == "converter")
     summary = " ".join(page_texts(sheets[demo, "a4"][1])[0].split())  # page 1: the summary table
     assert bool(re.search(r"cut-in \d+ rpm: the", summary)) == (ta.kind == "battery")
-    level = f"battery {ta.battery_v:g} V" if ta.kind == "battery" else f"target {ta.voltage_v:g} V"
+    assert bool(re.search(r"converter starts \d+ rpm: the", summary)) == (ta.kind == "converter")
+    if ta.kind == "battery":
+        level = f"battery {ta.battery_v:g} V"
+    elif ta.kind == "converter":
+        level = f"converter's limit {ta.max_input_v:g} V"
+    else:
+        level = f"target {ta.voltage_v:g} V"
     assert level in text
     assert "Efficiency" in text and "one period" in text
 
@@ -445,10 +453,12 @@ def test_test_plan_expects_the_summary_s_voltages(sheets, designs, toml):
     plan, summary = sheet.bench_voltages(d), sheet.summary_voltages(d)
     both = plan.keys() & summary.keys()
     # Every speed the summary states a voltage at, the plan states one at too, and the same;
-    # but a battery's voltage under load, which the battery sets and the plan does not check.
-    assert both == {k for k in summary if k[0] == "open circuit" or ta.kind != "battery"}
+    # but a battery's or a converter's voltage under load, which it sets itself and the plan
+    # does not check.
+    holds = ta.kind in ("battery", "converter")
+    assert both == {k for k in summary if k[0] == "open circuit" or not holds}
     assert {("open circuit", ta.rated_rpm), ("open circuit", ta.max_rpm)} <= both
-    if ta.kind == "battery":
+    if holds:
         assert ("open circuit", round(d.prediction.cut_in_rpm)) in both
     else:
         assert ("loaded", rated.rpm) in both

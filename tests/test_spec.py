@@ -11,7 +11,7 @@ from layout.design import compute_design
 from layout.spec import DesignError, load_spec
 
 DESIGNS = Path(__file__).resolve().parents[1] / "designs"
-DEMOS = ("hilltop", "millrace", "pedalbox")
+DEMOS = ("hilltop", "millrace", "pedalbox", "fieldkit")
 BAD_NAME = "creek.toml"
 
 
@@ -82,6 +82,23 @@ BAD_EDITS = [
      "target.cut_in_rpm", "400.0", "below target.rated_rpm (260)"),
     ("battery without its voltage", "millrace", "battery_v = 48.0\n", "",
      "target.battery_v", "(not given)", 'required for target.kind = "battery"'),
+    # A converter on the bus: its window, its tracking, its keys on other loads.
+    ("converter without its window", "fieldkit", "max_input_v = 30.0\n", "",
+     "target.max_input_v", "(not given)", 'required for target.kind = "converter"'),
+    ("converter window upside down", "fieldkit", "max_input_v = 30.0", "max_input_v = 6.0",
+     "target.max_input_v", "6.0", "must be above target.min_input_v (6.5)"),
+    ("fixed tracking without its level", "fieldkit", "input_v = 9.0\n", "",
+     "target.input_v", "(not given)", 'required for target.tracking = "fixed"'),
+    ("fixed level outside the window", "fieldkit", "input_v = 9.0", "input_v = 40.0",
+     "target.input_v", "40.0", "must lie in the converter's input window, 6.5 to 30 V"),
+    ("a level with tracking", "fieldkit", 'tracking = "fixed"', 'tracking = "mppt"',
+     "target.input_v", "9.0", 'only for target.tracking = "fixed"'),
+    ("unknown tracking", "fieldkit", 'tracking = "fixed"', 'tracking = "best"',
+     "target.tracking", '"best"', "must be one of mppt, fixed"),
+    ("converter efficiency as a percentage", "fieldkit", "efficiency = 0.88", "efficiency = 88",
+     "target.efficiency", "88", "at most 0.99"),
+    ("converter keys on a battery", "millrace", "battery_v = 48.0", "battery_v = 48.0\nmax_input_v = 150",
+     "target.max_input_v", "150", 'only for target.kind = "converter"'),
     ("steel stator without its plate", "millrace", 'topology = "two_discs"',
      'topology = "one_disc_steel_stator"', "rotor.stator_plate_thickness_mm", "(not given)", "required"),
     ("stationary plate behind a plain disc", "hilltop", "steel_disc_thickness_mm = 8.0",
