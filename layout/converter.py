@@ -77,11 +77,11 @@ def bus_levels(ta, top_v, from_v: float | None = None) -> np.ndarray:
 
 def pick(ta, levels: np.ndarray, bus_w: np.ndarray) -> np.ndarray:
     """The level the converter holds at each point, (points,) indices into `levels`' rows
-    (points, BUS_LEVELS), from the power `bus_w` it would draw at each. At the current limit,
+    (points, levels tried, rising), from the power `bus_w` it would draw at each. At the current limit,
     the highest level still reaching it; else the best output (mppt) or input_v (fixed)."""
     out = delivered_w(ta, bus_w)
     capped = ta.efficiency * bus_w >= limit_w(ta) * (1 - 1e-9)
-    highest_capped = BUS_LEVELS - 1 - np.argmax(capped[:, ::-1], axis=1)
+    highest_capped = capped.shape[1] - 1 - np.argmax(capped[:, ::-1], axis=1)
     free = np.argmax(out, axis=1) if ta.tracking == "mppt" else np.zeros(len(out), dtype=int)
     return np.where(capped.any(axis=1), highest_capped, free)
 

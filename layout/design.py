@@ -172,7 +172,7 @@ def _compute(spec: Spec, given_max_rpm: float | None = None) -> Design:
         src = resolve(spec.source)
         if spec.target.kind == "converter":
             top = idle_bus_v(pred, spec.target, src.runaway_rpm)
-            operating = converter_points(src, evaluate, spec.target, top)
+            operating = converter_points(src, evaluate, spec.target, top, pred.curve)
         else:
             operating = operating_points(src, evaluate, pred.curve)
     warnings = collect_warnings(

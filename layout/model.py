@@ -658,18 +658,25 @@ def _converter_evaluate(
     """The output with a converter on the bus (layout.converter): at the level `bus_v` where
     given (a source's run at one level; one per point of `at_rpm` if a sequence), else at
     each speed the level the converter picks from `converter.BUS_LEVELS` across its window,
-    all levels evaluated in one batch."""
+    evaluated in one batch (fixed tracking: input_v, and the levels above only at the
+    speeds where the current limit pushes the bus up)."""
     ta = spec.target
     vf = ta.diode_drop_v
     v_cut = conv.start_v(ta) + 2 * vf
     per_rpm = per_turn_peak * turns * 2 * math.pi / 60
-    if bus_v is not None:
-        held = float(bus_v) if np.ndim(bus_v) == 0 else tuple(np.asarray(bus_v, dtype=float))
-        load = Load("battery", conv.BUS_OHM, held)
-        pred = _evaluate(
+
+    def held(rpm, v, temps):
+        """The machine into the bus held at `v` (one per point of `rpm`)."""
+        load = Load(
+            "battery", conv.BUS_OHM, float(v) if np.ndim(v) == 0 else tuple(np.asarray(v, dtype=float))
+        )
+        return _evaluate(
             spec, geo, layout, emf, turns, v_cut, load, per_turn_peak, plate,
-            extra=extra, at_rpm=at_rpm, wire=wire, temps_c=temps_c,
+            extra=extra, at_rpm=rpm, wire=wire, temps_c=temps,
         )  # fmt: skip
+
+    if bus_v is not None:
+        pred = held(at_rpm, bus_v, temps_c)
         points = tuple(_converter_point(ta, op, conv.open_bus_v(per_rpm, op.rpm, vf)) for op in pred.curve)
         return dataclasses.replace(pred, curve=points, rated=_nearest(points, ta.rated_rpm))
     if at_rpm is not None:
@@ -678,31 +685,49 @@ def _converter_evaluate(
         rpms = np.array([float(ta.rated_rpm)])
     else:
         rpms = _curve_rpms(spec, v_cut / per_rpm)
+    temps = None if temps_c is None else np.asarray(temps_c, dtype=float)
     open_v = conv.open_bus_v(per_rpm, rpms, vf)
     levels = conv.bus_levels(ta, open_v)
-    g = levels.shape[1]
-    pred = _evaluate(
-        spec, geo, layout, emf, turns, v_cut, Load("battery", conv.BUS_OHM, tuple(levels.ravel())),
-        per_turn_peak, plate, extra=extra, at_rpm=np.repeat(rpms, g), wire=wire,
-        temps_c=None if temps_c is None else np.repeat(np.asarray(temps_c, dtype=float), g),
-    )  # fmt: skip
-    bus_w = np.array([op.dc_power_w for op in pred.curve]).reshape(len(rpms), g)
+    n, g = levels.shape
+    want = conv.limit_w(ta) / ta.efficiency
+    ops: dict[tuple[int, int], OperatingPoint] = {}
+    bus_w = np.full((n, g), -1.0)  # -1: a level not tried there
+
+    def fill(rows, first):
+        """Evaluate the levels from `first` at the points `rows`, in one batch."""
+        cols = g - first
+        pred = held(
+            np.repeat(rpms[rows], cols), levels[rows, first:].ravel(),
+            None if temps is None else np.repeat(temps[rows], cols),
+        )  # fmt: skip
+        for j, op in enumerate(pred.curve):
+            i, k = rows[j // cols], first + j % cols
+            ops[i, k], bus_w[i, k] = op, op.dc_power_w
+        return pred
+
+    everywhere = np.arange(n)
+    if ta.tracking == "fixed":
+        pred = held(rpms, levels[:, 0], temps)
+        for i, op in enumerate(pred.curve):
+            ops[i, 0], bus_w[i, 0] = op, op.dc_power_w
+        over = everywhere[bus_w[:, 0] >= want * (1 - 1e-9)]
+        if len(over) and g > 1:
+            fill(over, 1)
+    else:
+        pred = fill(everywhere, 0)
     best = conv.pick(ta, levels, bus_w)
-    points = [pred.curve[i * g + k] for i, k in enumerate(best)]
+    points = [ops[i, k] for i, k in enumerate(best)]
     # At its limit the converter holds the bus between the last level that reaches the limit
     # and the next: found there by interpolating the draw, and evaluated once more.
-    want = conv.limit_w(ta) / ta.efficiency
-    limited = [i for i, k in enumerate(best) if bus_w[i, k] > want and k + 1 < g and bus_w[i, k + 1] < want]
+    limited = [
+        i for i, k in enumerate(best) if bus_w[i, k] > want and k + 1 < g and 0 <= bus_w[i, k + 1] < want
+    ]
     if limited:
         at = np.array(limited)
         k = best[at]
         p0, p1 = bus_w[at, k], bus_w[at, k + 1]
         v = levels[at, k] + (levels[at, k + 1] - levels[at, k]) * (p0 - want) / (p0 - p1)
-        again = _evaluate(
-            spec, geo, layout, emf, turns, v_cut, Load("battery", conv.BUS_OHM, tuple(v)),
-            per_turn_peak, plate, extra=extra, at_rpm=rpms[at], wire=wire,
-            temps_c=None if temps_c is None else np.asarray(temps_c, dtype=float)[at],
-        )  # fmt: skip
+        again = held(rpms[at], v, None if temps is None else temps[at])
         for i, op in zip(limited, again.curve, strict=True):
             points[i] = op
     points = tuple(_converter_point(ta, op, open_v[i]) for i, op in enumerate(points))

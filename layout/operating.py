@@ -77,11 +77,15 @@ def _steady(src: Source, condition: float, rpms: np.ndarray, shaft_w: np.ndarray
     return float(rpms[j - 1] + (rpms[j] - rpms[j - 1]) * a / (a - b)), j
 
 
-def operating_points(src: Source, evaluate, curve: tuple[OperatingPoint, ...] = ()) -> Operating:
+def operating_points(
+    src: Source, evaluate, curve: tuple[OperatingPoint, ...] = (), grid_temps=None
+) -> Operating:
     """Every condition's steady point. `evaluate(rpms, temps_c=None)` returns the alternator's
     OperatingPoints at those speeds, with the coils at their steady temperature or at
     `temps_c` (model.curve_at with the machine's arguments). `curve`: points already solved
-    (the plan's curve), used as the search grid where they reach the runaway speed."""
+    (the plan's curve), used as the search grid where they reach the runaway speed.
+    `grid_temps(rpms)`: coil temperatures to search the grid with instead of solving them
+    (the found points are solved as always)."""
     top = max(src.runaway_rpm, 1.0) * 1.02
     if curve and curve[-1].rpm >= src.runaway_rpm:
         # below the curve's first speed the coils are as cool as there
@@ -90,7 +94,7 @@ def operating_points(src: Source, evaluate, curve: tuple[OperatingPoint, ...] = 
         grid = np.array([op.rpm for op in ops])
     else:
         grid = np.linspace(top / GRID_POINTS, top, GRID_POINTS)
-        ops = evaluate(grid)
+        ops = evaluate(grid) if grid_temps is None else evaluate(grid, grid_temps(grid))
     shaft = np.array([op.shaft_power_w for op in ops])
     conditions = src.conditions()
     n = len(conditions)
@@ -134,30 +138,51 @@ def operating_points(src: Source, evaluate, curve: tuple[OperatingPoint, ...] = 
     return _operating(src, tuple(_row(src, c, points[k]) for k, c in enumerate(conditions)))
 
 
-def converter_points(src: Source, evaluate, target, top_bus_v: float) -> Operating:
+def converter_points(
+    src: Source, evaluate, target, top_bus_v: float, curve: tuple[OperatingPoint, ...] = ()
+) -> Operating:
     """Every condition's steady point with a converter on the bus (layout.converter). Held at
     one level the bus is a constant-voltage sink and the shaft settles as with a battery, so
     each level the converter may hold is solved as above (`evaluate(rpms, temps_c, bus_v)`)
     and at each condition the converter's pick is taken: its best output (mppt) or input_v
     (fixed), or at its current limit the highest level still reaching it. `top_bus_v`: the
-    open-circuit bus at the runaway speed, above which no level draws anything."""
+    open-circuit bus at the runaway speed, above which no level draws anything. `curve`: the
+    plan's, whose coil temperatures each level's search grid takes (the found points are
+    solved at their own), so a level costs one circuit run per grid point, not a thermal
+    solve."""
     levels = conv.bus_levels(target, top_bus_v)[0]
     if target.tracking == "fixed":
         levels = levels[:1]  # input_v; the levels above only where the limit pushes the bus up
 
+    warm = None
+    if curve:
+        rpm_c = np.array([op.rpm for op in curve])
+        temp_c = np.array([op.coil_temperature_c for op in curve])
+
+        def warm(rpms):
+            return np.interp(rpms, rpm_c, temp_c)
+
     def run(v):
-        return operating_points(src, lambda rpms, temps_c=None: evaluate(rpms, temps_c, bus_v=v))
+        return operating_points(
+            src, lambda rpms, temps_c=None: evaluate(rpms, temps_c, bus_v=v), grid_temps=warm
+        )
+
+    limit = conv.limit_w(target)
+
+    def capped(run_):
+        return any(r.load_power_w >= limit * (1 - 1e-9) for r in run_.rows)
 
     runs = [run(v) for v in levels]
-    limit = conv.limit_w(target)
-    if target.tracking == "fixed" and any(r.load_power_w >= limit * (1 - 1e-9) for r in runs[0].rows):
+    if target.tracking == "fixed" and capped(runs[0]):
+        # the limit pushes the bus up: the levels above, until one no longer reaches it
         levels = conv.bus_levels(target, top_bus_v, from_v=target.input_v)[0]
-        runs += [run(v) for v in levels[1:]]
+        for v in levels[1:]:
+            runs.append(run(v))
+            if not capped(runs[-1]):
+                break
+        levels = levels[: len(runs)]
     bus_w = np.array([[r.output_power_w for r in run_.rows] for run_ in runs]).T
-    if len(runs) < conv.BUS_LEVELS:  # fixed, within its limit: the one level
-        pick = np.zeros(len(bus_w), dtype=int)
-    else:
-        pick = conv.pick(target, np.tile(levels, (len(bus_w), 1)), bus_w)
+    pick = conv.pick(target, np.tile(levels, (len(bus_w), 1)), bus_w)
     return _operating(src, tuple(runs[j].rows[k] for k, j in enumerate(pick)))
 
 
