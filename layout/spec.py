@@ -279,7 +279,7 @@ _TOP_KEYS = ("name", "purpose")
 
 def _base_type(annotation: str) -> tuple[type, bool]:
     """The Python type a field holds and whether None is allowed."""
-    hint = eval(annotation, {"tuple": tuple, "int": int, "float": float, "str": str})  # noqa: S307
+    hint = eval(annotation, {"tuple": tuple, "int": int, "float": float, "str": str, "bool": bool})  # noqa: S307
     optional = False
     if isinstance(hint, types.UnionType):
         args = [a for a in typing.get_args(hint) if a is not type(None)]
@@ -309,6 +309,10 @@ def _read_value(src: str, key: str, value: object, f: dataclasses.Field):
         ):
             raise DesignError(src, key, value, "must be a list of whole numbers")
         return tuple(value)
+    if kind is bool:
+        if not isinstance(value, bool):
+            raise DesignError(src, key, value, "must be true or false")
+        return value
     if kind is str:
         if not isinstance(value, str):
             raise DesignError(src, key, value, "must be text in quotes")
