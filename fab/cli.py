@@ -239,6 +239,38 @@ def sheet(design, out, paper):
     click.echo(f"written: {written}")
 
 
+@cli.command()
+@click.argument("requirement", metavar="REQUIREMENT.toml")
+@click.option(
+    "--top", type=click.IntRange(1, 20), default=5, show_default=True, help="candidates to list and write"
+)
+@click.option(
+    "--out",
+    "out",
+    type=click.Path(file_okay=False),
+    default=None,
+    help="folder for the design files, table and picture [default: out/NAME-size]",
+)
+@click.option("--json", "as_json", is_flag=True, help="print a JSON object for scripts")
+def size(requirement, top, out, as_json):
+    """Designs from a requirement: screen many candidates, re-check the best in full, rank."""
+    from fab.fit import check_parts
+    from fab.report import to_json
+    from fab.sizing import size_json, size_text, write_size
+    from layout.requirement import load_requirement
+    from layout.sizing import size as run_size
+
+    req = load_requirement(requirement)
+    s = run_size(req, top=top, progress=_progress(), accept=check_parts)
+    folder = Path(out) if out else Path("out") / f"{req.name}-size"
+    files = write_size(s, folder, top)
+    if as_json:
+        click.echo(to_json(size_json(s, top, files)))
+    else:
+        click.echo(size_text(s, top))
+        click.echo(f"written: {folder} ({len(files)} design files, size.txt, tradeoff.svg)")
+
+
 def main(argv: list[str] | None = None) -> None:
     """Console entry point with our error contract."""
     args = sys.argv[1:] if argv is None else argv
