@@ -37,6 +37,7 @@ bench: venv
 	$(BIN)/python bench/plan_speed.py
 	$(BIN)/python bench/pairs_speed.py
 	$(BIN)/python bench/build_speed.py
+	$(BIN)/python bench/size_speed.py
 
 clean:
 	rm -rf $(VENV) out/*/
