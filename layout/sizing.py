@@ -625,6 +625,29 @@ def screen(req: Requirement, progress: Callable[[str], None] | None = None) -> l
 _REFUSED: list[str] = []  # why the full model or the fit checks refused candidates, this run
 
 
+def _rated_where_it_runs(req: Requirement, d: Design, text: str, accept) -> tuple[Design, str]:
+    """With a source, the design file's rated speed becomes the steady speed at the rated
+    condition, so its rated-point checks are made where the machine will run, not at a speed
+    nothing holds. Only where the turns do not depend on it (a battery's follow the cut-in, a
+    converter's the top speed); the machine is the same, re-run."""
+    ta = d.spec.target
+    if d.operating is None or ta.kind not in ("battery", "converter"):
+        return d, text
+    row = min(d.operating.rows, key=lambda r: abs(r.condition - req.rated_condition))
+    rpm = float(round(row.rpm))
+    low = ta.cut_in_rpm if ta.kind == "battery" else 0.0
+    if row.point is None or rpm <= (low or 0) * 1.05 or abs(rpm / ta.rated_rpm - 1) < 0.05:
+        return d, text
+    new = text.replace(f"rated_rpm = {ta.rated_rpm:g}\n", f"rated_rpm = {rpm:g}\n", 1)
+    try:
+        again = compute_design(_spec(new))
+        if accept is not None:
+            accept(again)
+    except DesignError:
+        return d, text
+    return again, new
+
+
 def _full(req: Requirement, s: Screened, accept) -> Result | None:
     text = design_text(req, s.candidate, steel_mm=s.steel_mm or None)
     try:
@@ -634,6 +657,7 @@ def _full(req: Requirement, s: Screened, accept) -> Result | None:
     except DesignError as exc:
         _REFUSED.append(str(exc).split(": ", 1)[-1])
         return None
+    d, text = _rated_where_it_runs(req, d, text, accept)
     pr, lim = d.prediction, req.limits
     rated = pr.rated
     out_w = rated.delivered_w if rated.delivered_w is not None else rated.dc_power_w
