@@ -256,12 +256,12 @@ def size(requirement, top, out, as_json):
     """Designs from a requirement: screen many candidates, re-check the best in full, rank."""
     from fab.fit import check_parts
     from fab.report import to_json
-    from fab.sizing import size_json, size_text, write_size
+    from fab.sizing import printed_size_mm, size_json, size_text, write_size
     from layout.requirement import load_requirement
     from layout.sizing import size as run_size
 
     req = load_requirement(requirement)
-    s = run_size(req, top=top, progress=_progress(), accept=check_parts)
+    s = run_size(req, top=top, progress=_progress(), accept=check_parts, printed_mm=printed_size_mm)
     folder = Path(out) if out else Path("out") / f"{req.name}-size"
     files = write_size(s, folder, top)
     if as_json:

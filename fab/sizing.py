@@ -10,6 +10,13 @@ from fab.report import _r, table
 from layout.sizing import Result, Sizing, objective_words
 
 
+def printed_size_mm(design) -> float:
+    """The largest printed part's width, mm: the stator mould (its outer diameter)."""
+    from fab.outlines.stator import stator_layout
+
+    return 2 * stator_layout(design).mould_radius_mm
+
+
 def _annual(r: Result) -> float | None:
     op = r.design.operating
     return None if op is None else op.energy.get("annual_kwh")

@@ -648,7 +648,7 @@ def _rated_where_it_runs(req: Requirement, d: Design, text: str, accept) -> tupl
     return again, new
 
 
-def _full(req: Requirement, s: Screened, accept) -> Result | None:
+def _full(req: Requirement, s: Screened, accept, printed_mm=None) -> Result | None:
     text = design_text(req, s.candidate, steel_mm=s.steel_mm or None)
     try:
         d = compute_design(_spec(text))
@@ -693,6 +693,11 @@ def _full(req: Requirement, s: Screened, accept) -> Result | None:
         "min_efficiency": (rated.efficiency, lim.min_efficiency, +1),
         "max_disc_diameter_mm": (disc_mm, lim.max_disc_diameter_mm, -1),
         **({"budget": (cost, lim.budget, -1)} if lim.budget is not None else {}),
+        **(
+            {"print_bed_mm": (printed_mm(d), lim.print_bed_mm, -1)}
+            if lim.print_bed_mm is not None and printed_mm is not None
+            else {}
+        ),
     }
     fails, binding = [], []
     for name, (value, bound, sense) in figures.items():
@@ -744,9 +749,12 @@ def size(
     accept: Callable[[Design], None] | None = None,
     full_checks: int = FULL_CHECKS,
     relax: bool = True,
+    printed_mm: Callable[[Design], float] | None = None,
 ) -> Sizing:
     """Screen every candidate, re-check the best `full_checks` in full, rank by the objective.
-    `accept(design)` may raise DesignError to refuse one (the build's fit checks). When none
+    `accept(design)` may raise DesignError to refuse one (the build's fit checks);
+    `printed_mm(design)`, the largest printed part's size, is held to limits.print_bed_mm
+    (the writers know the parts; layout does not). When none
     meets the requirement and `relax`, the limits the nearest misses are relaxed one at a
     time and the search re-run, to say what each would give."""
     t0 = time.perf_counter()
@@ -771,7 +779,7 @@ def size(
             progress(
                 f"full model {k}/{len(picked)}: {s.candidate.coils} coils, {s.candidate.magnets} magnets"
             )
-        r = _full(req, s, accept)
+        r = _full(req, s, accept, printed_mm)
         if r is not None:
             results.append(r)
     results.sort(key=lambda r: (bool(r.fails), _objective_full(req, r) if not r.fails else len(r.fails)))

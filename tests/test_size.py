@@ -188,3 +188,14 @@ def test_size_from_the_command_line(run, tmp_path):
     bad.write_text(SMALL.replace('objective = "cost"', 'objective = "beauty"'))
     result = run("size", bad)
     assert result.returncode == 2 and result.stderr.count("\n") == 1
+
+
+def test_a_print_bed_too_small_for_the_mould_is_a_missed_limit():
+    from fab.sizing import printed_size_mm
+
+    data = tomllib.loads(SMALL)
+    data["limits"]["print_bed_mm"] = 60.0
+    req = parse_requirement(data, "small-bed.toml", DATA)
+    s = S.size(req, top=2, accept=check_parts, printed_mm=printed_size_mm, full_checks=4, relax=False)
+    assert s.results and all("print_bed_mm" in r.fails for r in s.results)
+    assert printed_size_mm(s.results[0].design) > 60.0
