@@ -733,13 +733,12 @@ def objective_words(req: Requirement, figure: bool = False) -> str:
 
 
 def _objective_full(req: Requirement, r: Result) -> float:
-    d = r.design
-    return {
-        "cost": r.cost,
-        "magnet_mass": r.magnet_kg,
-        "efficiency": -d.prediction.rated.efficiency,
-        "annual_energy": -(d.operating.energy.get("annual_kwh", 0.0) if d.operating else 0.0),
-    }[req.objective]
+    """Smaller is better, on the figures the table shows (with a source, where it runs)."""
+    if req.objective == "cost":
+        return r.cost
+    if req.objective == "magnet_mass":
+        return r.magnet_kg
+    return -r.figure  # efficiency, annual energy
 
 
 def size(

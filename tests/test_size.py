@@ -95,6 +95,14 @@ def test_the_ranking_follows_the_objective():
     assert feasible
     costs = [r.cost for r in feasible]
     assert costs == sorted(costs)
+    # and for another objective, on the figure the table prints
+    data = tomllib.loads(SMALL) | {"objective": "efficiency"}
+    s2 = S.size(
+        parse_requirement(data, "eff.toml", DATA), top=3, accept=check_parts, full_checks=8, relax=False
+    )
+    effs = [r.efficiency for r in s2.results if not r.fails]
+    assert effs == sorted(effs, reverse=True)
+    assert all(r.figure == r.efficiency for r in s2.results)
     # those that miss a limit come after every one that meets them all
     ranks = [not r.fails for r in s.results]
     assert ranks == sorted(ranks, reverse=True)
