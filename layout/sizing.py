@@ -45,6 +45,9 @@ CUT_IN_FACTORS = (1.0, 1.3, 1.6, 2.0)
 CLEARANCE_MM = 1.5  # running clearance each side of the stator (common practice)
 COIL_CLEARANCE_MM = 1.5
 FILL = 0.5  # hand-wound round wire fills 0.4–0.6 of the window (common practice)
+# Strands in hand no thicker than this: easy to wind, and the wire's own eddy loss (∝ d⁴)
+# stays small beside I²R (common practice).
+MAX_WIRE_MM = 1.2
 RIM_MM = 10.0  # disc beyond the magnets' outer edge (layout.forces default)
 STEEL_DESIGN_T = 1.4  # discs sized to carry the flux under the 1.5 T plate limit (common practice)
 SHARES = (0.55, 0.7)  # magnets' share of the pitch circle
@@ -309,6 +312,7 @@ def design_text(
         f'binder = "{req.limits.binder}"',
         f"fill_factor = {FILL:g}",
         'wire_standard = "metric"',
+        f"max_wire_diameter_mm = {MAX_WIRE_MM:g}",
         "",
         "[magnets]",
         f"count = {c.magnets}",
