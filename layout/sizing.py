@@ -71,9 +71,10 @@ class Candidate:
     connection: str
     topology: str
     k_d: float  # distribution factor of the counts
-    series: int  # coils in series per phase
+    series: int  # coils in series per path
     cut_in_rpm: float | None = None  # a battery's, where the search chooses it
     share: float = 0.0  # the magnets' share of the pitch circle
+    paths: int = 1  # parallel paths per phase
 
 
 @dataclass(frozen=True)
@@ -171,11 +172,26 @@ def candidates(req: Requirement) -> list[Candidate]:
                     t = float(max(6.0, round(mg.thickness_mm * f)))
                     for topo in topologies:
                         for conn in ("star", "delta") if ph == 3 else ("single_phase",):
+                            per_phase = coils // ph
                             out += [
                                 Candidate(
-                                    coils, magnets, ph, mg, r, t, conn, topo, kw, coils // ph, cut, share
-                                )
+                                    coils,
+                                    magnets,
+                                    ph,
+                                    mg,
+                                    r,
+                                    t,
+                                    conn,
+                                    topo,
+                                    kw,
+                                    per_phase // a,
+                                    cut,
+                                    share,
+                                    a,
+                                )  # fmt: skip
                                 for cut in cut_ins
+                                for a in PATHS
+                                if per_phase % a == 0 and _paths_ok(coils, magnets, ph, a)
                             ]
     return out
 
@@ -185,12 +201,25 @@ NEIGHBOURS = 2  # magnets each side of the sampled one
 IMAGE_ORDER = 1  # reflections in the steel each way
 
 
+PATHS = (1, 2)  # parallel paths per phase tried
+
+
+@functools.lru_cache(maxsize=1024)
+def _paths_ok(coils: int, magnets: int, phases: int, paths: int) -> bool:
+    """Whether the winding of these counts allows `paths` parallel paths (layout.winding)."""
+    if paths == 1:
+        return True
+    from layout.winding import star_of_slots
+
+    return paths in star_of_slots(coils, magnets, phases, exact_paths=False).allowed_parallel_paths
+
+
 def _fundamental_profile(
     mg: Magnet, r: float, magnets: int, stator: float, topology: str, br: float
-) -> tuple[np.ndarray, np.ndarray]:
+) -> tuple[np.ndarray, np.ndarray, float]:
     """The fundamental of Bz along the pitch circle in the stator's mid-plane, at radial
     offsets from the pitch circle out to one magnet length (the field is even in the
-    offset): (offsets mm, cumulative integral T·mm). The magnets are laid straight along
+    offset): (cell-centre offsets mm, B1 in each cell T, cell width mm). The magnets are laid straight along
     the circle, three each side of the one sampled; the field alternates pole to pole, so
     one pole pitch of samples gives the fundamental."""
     h = mg.thickness_mm
@@ -221,15 +250,19 @@ def _fundamental_profile(
     # antiperiodic over a pole: the period's fundamental is twice the half-period sum
     phase = np.exp(-1j * np.pi * np.arange(half) / half)
     b1 = np.abs(b_xy @ phase) * 2 * 2 / (2 * half)
-    edges = np.arange(Y_CELLS + 1) * dy
-    return edges, np.concatenate([[0.0], np.cumsum(b1 * dy)])
+    return ys, b1, dy
 
 
-def _fundamental_field(profile, half_y: float) -> float:
-    """∫B1 dy over ±`half_y` (the middle turn's radial reach, so the field beyond the
-    magnet's ends counts), T·mm, from `_fundamental_profile`."""
-    edges, cumulative = profile
-    return 2 * float(np.interp(half_y, edges, cumulative))
+def _reach(c: Candidate, profile) -> np.ndarray:
+    """Each profile cell's share inside the middle turn's radial reach."""
+    ys, _, dy = profile
+    return np.clip((_half_y(c) - (ys - dy / 2)) / dy, 0.0, 1.0)
+
+
+def _fundamental_field(c: Candidate, profile) -> float:
+    """∫B1 dy across the middle turn's radial reach (both sides of the pitch circle), T·mm."""
+    _, b1, dy = profile
+    return 2 * float((_reach(c, profile) * b1 * dy).sum())
 
 
 @dataclass(frozen=True)
@@ -238,6 +271,8 @@ class _Coil:
     mlt_mm: float
     span_in_rad: float  # between the innermost turn's legs at the pitch radius
     span_out_rad: float  # and the outermost's
+    delta_hole_mm: float  # the hole's side from the sector's edge
+    beta_rad: float  # half the sector
 
 
 HOLE_MARGIN_MM = 1.0  # stator.hole_margin_mm's default
@@ -269,22 +304,28 @@ def _coil_of(coils: int, mg: Magnet, rc: float) -> _Coil | None:
     def span(delta):
         return 2 * math.atan2((rc * math.sin(beta) - delta) / math.cos(beta), rc)
 
-    return _Coil(leg, mlt, span(delta_hole), span(delta_hole - leg))
+    return _Coil(leg, mlt, span(delta_hole), span(delta_hole - leg), delta_hole, beta)
 
 
-def _raw_peak(c: Candidate, b1: float) -> float:
-    """Rectified open-circuit peak per turn per rad/s, before calibration: a turn spanning σ
-    links ∫B1 dy (2r/p) sin(pσ/2) of the fundamental (∫B1 dy across its radial reach), averaged
-    over the turns from the hole to the outline; times p, the distribution factor, the coils
-    in series and the line factor (√3 for star)."""
+def _raw_peak(c: Candidate, profile) -> float:
+    """Rectified open-circuit peak per turn per rad/s, before calibration. At radius ρ a turn
+    whose legs lie δ in from the sector's edges spans σ(ρ, δ) and links B1(ρ) (2ρ/p)
+    sin(pσ/2) dρ of the fundamental; summed over the profile's radial cells within the turn's
+    reach and averaged over the turns from the hole to the outline; times p, the
+    distribution factor, the coils in series and the line factor (√3 for star)."""
     p = c.magnets // 2
     r = c.pitch_radius_mm
     coil = _coil(c)
-    a, b = coil.span_in_rad, coil.span_out_rad
-    mean_sin = 2 / (p * (b - a)) * (math.cos(p * a / 2) - math.cos(p * b / 2))
-    lam = b1 * 1e-3 * (2 * r * 1e-3 / p) * abs(mean_sin)
+    ys, b1, dy = profile
+    weight = _reach(c, profile) * b1 * dy
+    deltas = coil.delta_hole_mm - np.linspace(0.0, 1.0, 5) * coil.leg_mm
+    sb, cb = math.sin(coil.beta_rad), math.cos(coil.beta_rad)
+    flux = 0.0  # T·mm²
+    for rho in (r + ys, r - ys):
+        sigma = 2 * np.arctan2((rho[:, None] * sb - deltas[None, :]) / cb, rho[:, None])
+        flux += float((weight * 2 * rho / p * np.sin(p * sigma / 2).mean(axis=1)).sum())
     line = math.sqrt(3) if c.connection == "star" else 1.0
-    return p * lam * c.k_d * c.series * line
+    return p * abs(flux) * 1e-6 * c.k_d * c.series * line
 
 
 def design_text(
@@ -341,6 +382,7 @@ def design_text(
         "",
         "[connection]",
         f'kind = "{c.connection}"',
+        *([f"parallel_paths = {c.paths}"] if c.paths > 1 else []),
         "",
         "[target]",
         *(
@@ -439,7 +481,7 @@ def _half_y(c: Candidate) -> float:
 
 
 def _field_key(c: Candidate):
-    return (c.magnet, c.pitch_radius_mm, c.magnets, c.stator_mm, c.topology, round(_half_y(c), 1))
+    return (c.magnet, c.pitch_radius_mm, c.magnets, c.stator_mm, c.topology)
 
 
 def _steel_mm(c: Candidate, b1_dy: float) -> float:
@@ -460,11 +502,9 @@ def _screen_one(req: Requirement, c: Candidate, peak: float, b1_dy: float = 0.0)
     coil = _coil(c)
     window = coil.leg_mm * (c.stator_mm - 1.0)
     mlt = coil.mlt_mm
-    r_line_per_n2 = (
-        RHO_CU_OHM_MM * mlt / (FILL * window) * c.series * (2 if c.connection == "star" else 2 / 3)
-    )
-    if c.phases == 1:
-        r_line_per_n2 = RHO_CU_OHM_MM * mlt / (FILL * window) * c.series
+    # a phase: `paths` parallel paths of `series` coils
+    r_phase_per_n2 = RHO_CU_OHM_MM * mlt / (FILL * window) * c.series / c.paths
+    r_line_per_n2 = r_phase_per_n2 * ((2 if c.connection == "star" else 2 / 3) if c.phases == 3 else 1.0)
     # turns and output at rated, by target
     if ta.kind == "battery":
         n = max(1, round((ta.battery_v + 2 * vf) / (peak * c.cut_in_rpm * math.pi / 30)))
@@ -496,7 +536,7 @@ def _screen_one(req: Requirement, c: Candidate, peak: float, b1_dy: float = 0.0)
     eff = p_out / (p_out + cu_w + 2 * vf * i) if p_out > 0 else 0.0
     area = FILL * window / n
     i_phase = i * (0.816 if c.phases == 3 else 1.0) / (math.sqrt(3) if c.connection == "delta" else 1.0)
-    density = i_phase / area
+    density = i_phase / c.paths / area
     discs = 2 if c.topology == "two_discs" else 1
     r_out = c.pitch_radius_mm + mg.radial_mm / 2 + RIM_MM
     n_mag = c.magnets * discs
@@ -602,27 +642,23 @@ def objective_value(req: Requirement, s) -> float:
 def screen(req: Requirement, progress: Callable[[str], None] | None = None) -> list[Screened]:
     cands = candidates(req)
     fields: dict = {}
-    profiles: dict = {}
     for c in cands:
         key = _field_key(c)
         if key not in fields:
-            base = key[:-1]
-            if base not in profiles:
-                profiles[base] = _fundamental_profile(
-                    c.magnet, c.pitch_radius_mm, c.magnets, c.stator_mm, c.topology,
-                    MAGNET_GRADES[c.magnet.grade].remanence_t,
-                )  # fmt: skip
-            fields[key] = _fundamental_field(profiles[base], _half_y(c))
+            fields[key] = _fundamental_profile(
+                c.magnet, c.pitch_radius_mm, c.magnets, c.stator_mm, c.topology,
+                MAGNET_GRADES[c.magnet.grade].remanence_t,
+            )  # fmt: skip
     if progress:
-        progress(f"screen: {len(cands)} candidates, {len(profiles)} field layouts")
+        progress(f"screen: {len(cands)} candidates, {len(fields)} field layouts")
     cal = _calibration(req, cands, fields)
     out = []
     for c in cands:
         k = cal.get(_cal_key(c))
         if k is None:
             continue
-        b1 = fields[_field_key(c)]
-        out.append(_screen_one(req, c, k * _raw_peak(c, b1), b1))
+        prof = fields[_field_key(c)]
+        out.append(_screen_one(req, c, k * _raw_peak(c, prof), _fundamental_field(c, prof)))
     return out
 
 
