@@ -35,7 +35,7 @@ from layout.geometry import MIN_LEG_WIDTH_MM, _trapezoid, resolve_geometry
 from layout.materials import MAGNET_GRADES, STATOR_BINDERS_MAX_C
 from layout.pairs import combinations
 from layout.requirement import Magnet, Requirement, replace_limits
-from layout.safety import above_extra_low_voltage
+from layout.safety import ELV_DC_V, above_extra_low_voltage
 from layout.source import resolve
 from layout.spec import DesignError, parse_spec
 
@@ -747,9 +747,12 @@ def _full(req: Requirement, s: Screened, accept, printed_mm=None) -> Result | No
             binding.append(name)
     if lim.elv_at_runaway and above_extra_low_voltage(pr):
         fails.append("elv_at_runaway")
-    dangers = sorted(w.code for w in d.warnings if w.severity == "danger" and w.code not in INHERENT)
-    if not lim.elv_at_runaway:
-        dangers = [c for c in dangers if c != "voltage.above_elv"]
+    # the extra-low-voltage warning is the elv_at_runaway limit's: met, missed or waived there
+    dangers = sorted(
+        w.code
+        for w in d.warnings
+        if w.severity == "danger" and w.code not in INHERENT and w.code != "voltage.above_elv"
+    )
     fails += [f"danger {c}" for c in dangers]
     annual = d.operating.energy.get("annual_kwh", 0.0) if d.operating is not None else 0.0
     figure = {
@@ -827,40 +830,71 @@ def size(
     if not results or results[0].fails:
         closest = _closest(req, results)
         if relax and results:
-            closest += _relaxed(req, results[0], accept, progress)
+            closest += _relaxed(req, results[0], accept, progress, printed_mm)
     return Sizing(req, len(screened), time.perf_counter() - t0, tuple(results), closest)
 
 
-RELAX = {"max_disc_diameter_mm": 1.25, "budget": 1.5, "min_efficiency": None}
+# How far each limit is relaxed to say what it would give: a factor, or the value itself
+# (elv_at_runaway waived: the machine guarded as above extra-low voltage; no print bed: the
+# mould printed in parts or made another way).
+RELAX = {
+    "max_disc_diameter_mm": 1.25,
+    "budget": 1.5,
+    "min_efficiency": -0.1,
+    "elv_at_runaway": False,
+    "print_bed_mm": None,
+}
 
 
-def _relaxed(req: Requirement, nearest: Result, accept, progress) -> str:
-    """What relaxing each limit the nearest candidate misses would give: the search re-run."""
-    words = []
+def _relaxed_value(req: Requirement, name: str):
+    step, value = RELAX[name], getattr(req.limits, name)
+    if isinstance(step, bool) or step is None:
+        return step
+    return max(0.0, round(value + step, 2)) if step < 0 else round(value * step)
+
+
+def _relax_words(name: str, to) -> str:
+    if to is None:
+        return f"dropping limits.{name}"
+    return f"limits.{name} = {str(to).lower() if isinstance(to, bool) else f'{to:g}'}"
+
+
+def _relaxed(req: Requirement, nearest: Result, accept, progress, printed_mm=None) -> str:
+    """What relaxing each limit the nearest candidate misses would give, the search re-run:
+    one at a time, then (when no one alone is enough) all of them together."""
     misses = list(nearest.fails)
     # too little output or too hot: a larger disc carries more magnet and copper
     if {"rated_power_w", "max_coil_temperature_c"} & set(misses) and "max_disc_diameter_mm" not in misses:
         misses.append("max_disc_diameter_mm")
+    changes = {}
     for name in misses:
-        if name not in RELAX:
-            continue
-        value = getattr(req.limits, name)
-        if value is None:
-            continue
-        to = round(value * RELAX[name]) if RELAX[name] else max(0.0, round(value - 0.1, 2))
+        if name in RELAX and getattr(req.limits, name) not in (None, False):
+            changes[name] = _relaxed_value(req, name)
+    trials = [{k: v} for k, v in changes.items()]
+    if len(changes) > 1:
+        trials.append(changes)
+    words, any_met = [], False
+    for k, change in enumerate(trials):
+        if k == len(changes) and any_met:
+            break  # one alone was enough: no need to relax them all
+        said = " with ".join(_relax_words(n, v) for n, v in change.items())
         if progress:
-            progress(f"relaxing limits.{name} to {to:g}")
-        again = size(replace_limits(req, **{name: to}), top=1, accept=accept, full_checks=8, relax=False)
+            progress(f"relaxing: {said}")
+        again = size(
+            replace_limits(req, **change), top=1, accept=accept, full_checks=8, relax=False,
+            printed_mm=printed_mm,
+        )  # fmt: skip
         best = again.results[0] if again.results else None
         if best is not None and not best.fails:
+            any_met = True
             words.append(
-                f"limits.{name} = {to:g} would give {best.output_w:.0f} W for {best.cost:.0f} "
+                f"{said} would give {best.output_w:.0f} W for {best.cost:.0f} "
                 f"{req.prices.currency} ({best.design.spec.stator.coil_positions} coils, "
                 f"{best.design.spec.magnets.count} magnets)"
             )
         else:
-            words.append(f"limits.{name} = {to:g} alone is not enough")
-    return (". Relaxed one at a time: " + "; ".join(words)) if words else ""
+            words.append(f"{said} {'together are' if len(change) > 1 else 'alone is'} not enough")
+    return (". Relaxed: " + "; ".join(words)) if words else ""
 
 
 def _closest(req: Requirement, results: list[Result]) -> str:
@@ -887,6 +921,18 @@ def _closest(req: Requirement, results: list[Result]) -> str:
             words.append(f"its efficiency is {d.prediction.rated.efficiency:.0%}")
         elif f == "budget":
             words.append(f"it costs {best.cost:.0f} {req.prices.currency}")
+        elif f == "elv_at_runaway":
+            pr = d.prediction
+            words.append(
+                f"unloaded at runaway ({d.spec.target.max_rpm:g} rpm) it gives "
+                f"{pr.open_circuit_dc_peak_at_max_v:.0f} V DC, above extra-low voltage ({ELV_DC_V:g} V DC)"
+            )
+        elif f == "print_bed_mm":
+            words.append(f"its largest printed part is over the {req.limits.print_bed_mm:g} mm bed")
+        elif f.startswith("danger "):
+            code = f.split(" ", 1)[1]
+            msg = next((w.message for w in d.warnings if w.code == code), code)
+            words.append(f"{code}: {msg.split(': ')[0].rstrip('.')}")
         else:
             words.append(f)
     return f"nearest: candidate 1 ({best.design.spec.name}); " + "; ".join(words)

@@ -207,3 +207,15 @@ def test_a_print_bed_too_small_for_the_mould_is_a_missed_limit():
     s = S.size(req, top=2, accept=check_parts, printed_mm=printed_size_mm, full_checks=4, relax=False)
     assert s.results and all("print_bed_mm" in r.fails for r in s.results)
     assert printed_size_mm(s.results[0].design) > 60.0
+
+
+def test_a_missed_voltage_limit_is_explained_and_its_waiver_re_run():
+    # 24 V DC at 500 rpm but a shaft that can run away to 3000 rpm: unloaded it passes
+    # extra-low voltage (IEC 61140: 120 V DC) whatever the turns
+    data = tomllib.loads(SMALL)
+    data["target"]["max_rpm"] = 3000.0
+    s = S.size(parse_requirement(data, "runaway.toml", DATA), top=2, accept=check_parts, full_checks=4)
+    assert s.results and all("elv_at_runaway" in r.fails for r in s.results)
+    assert not any("danger voltage.above_elv" in r.fails for r in s.results)  # said once
+    assert "above extra-low voltage (120 V DC)" in s.closest
+    assert "limits.elv_at_runaway = false would give" in s.closest, s.closest
