@@ -435,9 +435,24 @@ def suggest(
                         brings=tuple(sorted(codes - before_codes)),
                     )
                 )
+        found = [s for s in found if not any(_dominates(o, s, fig.better) for o in found)]
         found.sort(key=lambda s: (not s.clears, bool(s.brings), -(s.value - s.now) * fig.better))
         out.extend(found[:MAX_SUGGESTIONS])
     return tuple(out)
+
+
+def _dominates(a: Suggestion, b: Suggestion, better: int) -> bool:
+    """`a` does at least as well as `b` on the flagged figure and the rated output, better on
+    one, clears the warning if `b` does and raises no more: `b` need not be shown."""
+    figure = (a.value - b.value) * better
+    power = a.rated_power_w - b.rated_power_w
+    return (
+        figure >= 0
+        and power >= 0
+        and (figure > 0 or power > 0)
+        and (a.clears or not b.clears)
+        and set(a.brings) <= set(b.brings)
+    )
 
 
 def _rerun(spec: Spec, change, accept) -> Design | None:

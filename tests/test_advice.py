@@ -101,3 +101,18 @@ def test_plan_offers_suggest_and_suggest_lists_checked_changes(run):
     data = json.loads(run("plan", "--suggest", "--json", path).stdout)
     eff = next(w for w in data["warnings"] if w["code"] == "output.low_efficiency")
     assert eff["suggestions"] and all(s["figure"] > s["figure_now"] for s in eff["suggestions"])
+
+
+def test_no_offered_change_is_beaten_on_both_counts_by_another(advised):
+    # A change that helps the figure less and costs more output than another for the same
+    # warning (which clears as much and raises nothing more) is noise beside it: not shown.
+    d, found = advised
+    for s in found:
+        fig = FIGURES[s.code]
+        for o in found:
+            if o is s or o.code != s.code:
+                continue
+            better_figure = (o.value - s.value) * fig.better > 0
+            better_power = o.rated_power_w > s.rated_power_w
+            no_worse = (o.clears or not s.clears) and set(o.brings) <= set(s.brings)
+            assert not (better_figure and better_power and no_worse), (o.words, s.words)
