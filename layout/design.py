@@ -8,6 +8,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from layout.bill import Bill, materials_bill
+from layout.circuit import BridgeRating, bridge_rating
 from layout.converter import idle_bus_v
 from layout.emf import CoilLinkage, FluxMap, coil_linkage, flux_map, phase_emf
 from layout.forces import Forces, compute_forces
@@ -45,6 +46,21 @@ class Design:
     operating: Operating | None = None
     # target.max_rpm as the file gave it, where the source's runaway raised it for the checks.
     given_max_rpm: float | None = None
+
+    @property
+    def bridge(self) -> BridgeRating:
+        """The least diode-bridge rating (V, A). The voltage is the open-circuit peak at
+        max_rpm; the current the highest the machine can be driven to deliver: on the output
+        curve, or with a source, at the steady speeds it holds (it cannot drive the curve's
+        top, where no turbine, rotor or rider reaches)."""
+        pr = self.prediction
+        if self.operating is None:
+            return pr.bridge
+        points = [r.point for r in self.operating.rows if r.point is not None]
+        if not points:
+            return pr.bridge
+        top = max(points, key=lambda op: op.dc_current_a)
+        return bridge_rating(pr.open_circuit_dc_peak_at_max_v, top.dc_current_a, top.rpm)
 
     def suggestions_for(self, code: str) -> tuple[Suggestion, ...]:
         return tuple(s for s in self.suggestions or () if s.code == code)

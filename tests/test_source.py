@@ -127,6 +127,20 @@ def test_operating_points_balance_torque(demo):
         assert math.isfinite(r.efficiency) and 0 <= r.efficiency <= 1
 
 
+@pytest.mark.parametrize("demo", ["hilltop", "millrace", "pedalbox"])
+def test_the_bridge_is_rated_for_what_the_source_can_drive(demo):
+    """Energy conservation: the DC current the bridge is sized by, times the DC voltage it is
+    delivered at, is no more than the most the source gives at any condition the design
+    lists; the output curve's top (at runaway speed, loaded) is beyond any source."""
+    d = compute_design(load_spec(DESIGNS / f"{demo}.toml"))
+    op = d.operating
+    most_w = max(r.available_w for r in op.rows)
+    br = d.bridge
+    volts = next(r.point.dc_voltage_v for r in op.rows if r.point is not None and r.rpm == br.max_current_rpm)
+    assert br.max_current_a * volts <= most_w
+    assert br.max_current_a <= max(p.dc_current_a for p in d.prediction.curve)
+
+
 def test_wind_demo_has_energy_and_cut_in():
     d = compute_design(load_spec(DESIGNS / "hilltop.toml"))
     op = d.operating

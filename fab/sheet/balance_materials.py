@@ -117,7 +117,7 @@ def _materials_rows(design: Design) -> list[tuple[str, str, str]]:
         )
     )
     if spec.target.kind != "ac_line":
-        br = pr.bridge
+        br = design.bridge
         rows.append(
             (
                 "diode bridge",

@@ -148,12 +148,12 @@ def _connection_notes(d: Design) -> list[str]:
             + ("load." if ta.kind == "ac_line" else "two AC inputs (~) of the bridge.")
         )
     if ta.kind != "ac_line":
-        br = pr.bridge
+        br = d.bridge
         legs = "three-phase (six diodes)" if d.layout.phases == 3 else "single-phase (four diodes)"
         notes.append(
             f"Rectifier: a {legs} bridge rated at least {br.voltage_v:.0f} V and {br.current_a:.0f} A "
             f"(twice the {br.open_circuit_peak_v:.0f} V open-circuit peak at {ta.max_rpm:g} rpm, "
-            f"{BRIDGE_CURRENT_FACTOR:g} times the {br.max_current_a:.1f} A at {br.max_current_rpm:g} rpm; "
+            f"{BRIDGE_CURRENT_FACTOR:g} times the {br.max_current_a:.1f} A at {br.max_current_rpm:.0f} rpm; "
             "common practice), on a heat sink."
         )
     if ta.kind == "battery":
