@@ -442,8 +442,12 @@ def suggest(
 
 
 def _dominates(a: Suggestion, b: Suggestion, better: int) -> bool:
-    """`a` does at least as well as `b` on the flagged figure and the rated output, better on
-    one, clears the warning if `b` does and raises no more: `b` need not be shown."""
+    """`a`, another value of the same key, does at least as well as `b` on the flagged figure
+    and the rated output, better on one, clears the warning if `b` does and raises no more:
+    `b` need not be shown. Changes of different keys are different remedies (a rewind, another
+    converter) and are all shown."""
+    if a.key != b.key or a.also != b.also:
+        return False
     figure = (a.value - b.value) * better
     power = a.rated_power_w - b.rated_power_w
     return (

@@ -104,13 +104,14 @@ def test_plan_offers_suggest_and_suggest_lists_checked_changes(run):
 
 
 def test_no_offered_change_is_beaten_on_both_counts_by_another(advised):
-    # A change that helps the figure less and costs more output than another for the same
-    # warning (which clears as much and raises nothing more) is noise beside it: not shown.
+    # A value of a key that helps the figure less and costs more output than another value of
+    # the same key for the same warning (clearing as much, raising nothing more) is noise
+    # beside it: not shown.
     d, found = advised
     for s in found:
         fig = FIGURES[s.code]
         for o in found:
-            if o is s or o.code != s.code:
+            if o is s or o.code != s.code or o.key != s.key or o.also != s.also:
                 continue
             better_figure = (o.value - s.value) * fig.better > 0
             better_power = o.rated_power_w > s.rated_power_w
