@@ -129,6 +129,15 @@ def _text(render: Callable[[Design], str]):
     return write
 
 
+def _write_stator_map(b: Builder, path: Path) -> dict:
+    from fab.drawings import write_stator_map
+    from fab.sheet.stator_map import map_notes
+
+    smap = outlines.stator_map(b.design)
+    write_stator_map(smap, path, map_notes(b.design))
+    return {"joins": len(smap.joins), "lanes": smap.lanes, "exit_angle_deg": smap.exit_angle_deg}
+
+
 def _plan_text(design: Design) -> str:
     from fab.report import plan_text
 
@@ -231,6 +240,15 @@ def document_items(design: Design) -> list[Item]:
             _text(_plan_text),
         ),
         Item("plan.json", "the same as plan.txt, for scripts", "-", "read", "", _text(_plan_json)),
+        Item(
+            "stator_map.dxf",
+            "stator map, full size: every position's number, phase and polarity, each coil's leads, "
+            "every join and the terminals at the lead exits",
+            "-",
+            "read",
+            "print it full size or lay it beside the mould; join the leads as drawn",
+            _write_stator_map,
+        ),
     ]
 
 
@@ -331,7 +349,8 @@ def mould_items(design: Design) -> list[Item]:
     n_coils = len(design.geometry.coil_indices)
     how = (
         f"wax it; pour a first layer {design.spec.stator.resin_cover_mm:g} mm thick and let it gel, lay the "
-        "coils over their places, bring the phase ends out through the lead slots (sealed with clay), fill it"
+        "coils over their places as the stator map numbers them, bring the phase ends out through the "
+        "lead slots (sealed with clay), fill it"
     )
     items = [
         Item(

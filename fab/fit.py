@@ -25,6 +25,7 @@ from fab.outlines import (
     Feature,
     Flat,
     disc_layout,
+    exit_angle_deg,
     jig_cheek_flat,
     jig_core_flat,
     magnet_template_flat,
@@ -489,16 +490,17 @@ def check_stator(design: Design) -> None:
                 f"the {jack.screw} jacking screws must pass inside the stator's bore "
                 f"({2 * sl.inner_radius_mm:.1f} mm across): at most {math.floor(2 * hi * 10) / 10:g}",
             )
-    # The lead slots sit between the two lugs either side of 0°, with a web to each.
+    # The lead slots sit between the two lugs either side of the exits, with a web to each.
     r = sl.outer_radius_mm
     lug_edge = 180.0 / spec.stator.mounting_lugs - math.degrees(math.asin(sl.lug_half_width_mm / r))
-    reach = max(abs(a) for a in sl.lead_slot_angles_deg)
+    at = exit_angle_deg(design)
+    reach = max(abs(a - at) for a in sl.lead_slot_angles_deg)
     reach += math.degrees(math.asin((sl.lead_slot_width_mm / 2 + ro.min_web_mm) / r))
     if reach > lug_edge + _TOL:
         raise spec.fail(
             "stator.mounting_lugs",
             spec.stator.mounting_lugs,
-            f"the {len(sl.lead_names)} lead slots at the terminal side (0°) run into the mounting lugs "
+            f"the {len(sl.lead_names)} lead slots at the exits ({at:g}°) run into the mounting lugs "
             "either side: use fewer lugs",
         )
 

@@ -417,3 +417,39 @@ def figure_notes(
     if unbalanced_pull:
         notes.append("no rotational symmetry: unbalanced magnetic pull on the bearings")
     return notes
+
+
+def lead_in(coil: Coil) -> str:
+    """The lead a coil's chain enters by: its start S as wound, its finish F when reversed."""
+    return f"{coil.index}{'S' if coil.polarity > 0 else 'F'}"
+
+
+def lead_out(coil: Coil) -> str:
+    """The lead a coil's chain leaves by: the other end from `lead_in`."""
+    return f"{coil.index}{'F' if coil.polarity > 0 else 'S'}"
+
+
+def joins(layout: Layout, connection: str) -> tuple[tuple[str, str, str], ...]:
+    """Every join the stator's wiring makes, in the order it is made: (phase, from, to).
+
+    Leads are named by position and end ("4S", "4F"), terminals by IEC 60034-8 ("U1"). In
+    each path of a phase the coils are joined in position order, out of one into the next;
+    a phase's start terminal takes each path's first coil, its end terminal each path's
+    last. Then the connection's joints between terminals, phase "star" or "delta" (made at
+    the terminals, after each phase has passed its tests): star U2-V2-W2; delta U1-W2,
+    V1-U2, W1-V2 (the three lines). Single phase has none.
+    """
+    out: list[tuple[str, str, str]] = []
+    for phase in layout.phase_names:
+        t1, t2 = terminal_pair(phase)
+        coils = layout.phase_coils(phase)
+        for a in range(1, layout.parallel_paths + 1):
+            chain = [c for c in coils if c.path == a]
+            out.append((phase, t1, lead_in(chain[0])))
+            out += [(phase, lead_out(x), lead_in(y)) for x, y in zip(chain, chain[1:], strict=False)]
+            out.append((phase, lead_out(chain[-1]), t2))
+    if layout.phases == 3 and connection == "star":
+        out += [("star", "U2", "V2"), ("star", "V2", "W2")]
+    elif layout.phases == 3 and connection == "delta":
+        out += [("delta", "U1", "W2"), ("delta", "V1", "U2"), ("delta", "W1", "V2")]
+    return tuple(out)

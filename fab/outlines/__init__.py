@@ -76,10 +76,19 @@ from fab.outlines.stator import (  # noqa: F401
     StatorLayout,
     _lug_holes,
     coil_place,
+    exit_angle_deg,
     lead_slots,
     lugged_outline,
     mould_flats,
     stator_flat,
     stator_layout,
     stator_plate_flat,
+)
+from fab.outlines.stator_map import (  # noqa: F401
+    MapJoin,
+    MapNode,
+    MapPosition,
+    StatorMap,
+    map_nets,
+    stator_map,
 )

@@ -204,6 +204,7 @@ class Flat:
     pockets: tuple[Feature, ...] = ()
     engraved: tuple[Feature, ...] = ()
     reference: tuple[Feature, ...] = ()
+    labels: tuple[tuple[str, float, float, float], ...] = ()  # (text, x, y, height mm), centred
     web_mm: float = 0.0  # least material between cut features, and their edge gap
     web_key: str = "rotor.min_web_mm"
     thickness_key: str = ""  # the design key that sets thickness_mm

@@ -44,6 +44,15 @@ class StatorLayout:
     plate_inner_radius_mm: float | None
 
 
+def exit_angle_deg(design: Design) -> float:
+    """Where the leads leave the stator: at the first empty position, whose room the phase
+    ends run through, or beside position 1."""
+    lay = design.layout
+    if lay.empty_positions:
+        return 360.0 * (lay.empty_positions[0] - 1) / lay.coil_positions
+    return 0.0
+
+
 def stator_layout(design: Design) -> StatorLayout:
     spec, geo = design.spec, design.geometry
     st = spec.stator
@@ -53,12 +62,13 @@ def stator_layout(design: Design) -> StatorLayout:
     r_lug = max(r_out, design.forces.disc_outer_radius_mm + STUD_CLEARANCE_MM) + hole / 2
     half = hole  # half a hole's diameter of material each side of it
     n = st.mounting_lugs
-    lugs = tuple(360.0 * (k + 0.5) / n for k in range(n))
+    at = exit_angle_deg(design)
+    lugs = tuple(at + 360.0 * (k + 0.5) / n for k in range(n))  # symmetric about the exits
     wire = design.prediction.wire
     slot = max(LEAD_SLOT_MIN_MM, bundle_diameter_mm(wire) + 1.5)
     names = terminal_markings(st.phases)
     pitch = 2.5 * slot / r_out  # radians between slot centres on the rim
-    slots = tuple(math.degrees((i - (len(names) - 1) / 2) * pitch) for i in range(len(names)))
+    slots = tuple(at + math.degrees((i - (len(names) - 1) / 2) * pitch) for i in range(len(names)))
     plate_in = None
     if spec.rotor.topology == "one_disc_steel_stator":
         jack = jacking(design)
@@ -181,7 +191,7 @@ def stator_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
 
 
 def lead_slots(design: Design) -> list[Feature]:
-    """Slots in the mould's wall at the terminal side (0°) that carry the phase ends out."""
+    """Slots in the mould's wall at the lead exits (`exit_angle_deg`) that carry the phase ends out."""
     sl = stator_layout(design)
     w = sl.lead_slot_width_mm
     out = []
@@ -190,6 +200,17 @@ def lead_slots(design: Design) -> list[Feature]:
         lugs = float(design.spec.stator.mounting_lugs)
         out.append(Feature("slot", polygon(rect).moved(a), f"lead slot {name}", "stator.mounting_lugs", lugs))
     return out
+
+
+def _place_labels(design: Design) -> tuple[tuple[str, float, float, float], ...]:
+    """Each coil place's number and its phase and polarity, as on the stator map."""
+    from fab.outlines.stator_map import stator_map
+
+    out = []
+    for p in stator_map(design).positions:
+        x, y = p.label_xy
+        out += [(str(p.index), x, y + 3.0, 6.0), (p.mark, x, y - 4.5, 3.0)]
+    return tuple(out)
 
 
 def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
@@ -222,6 +243,7 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
             Feature("island", circle(0, 0, sl.inner_radius_mm), "island", "stator.resin_rim_mm"),
         )
         + windows,
+        labels=_place_labels(design),
     )
     frame = Flat(
         part="stator_mould_frame",

@@ -150,7 +150,7 @@ def _draw_scale_bar(c, w: float, h: float, bar: float, s: float, n: int) -> None
     c.drawString(x0, y0 - 3.4 * MM, "0")
     c.drawRightString(x0 + length, y0 - 3.4 * MM, f"{bar:g} mm")
     c.setFont(SANS_BOLD, 10)
-    c.drawString(x0 + length + 4 * MM, y0 - 0.2 * MM, f"scale 1:{n}")
+    c.drawString(x0 + length + 4 * MM, y0 - 0.2 * MM, f"scale 1:{n:g}")
 
 
 def _assigned_ids(balance, disc: int, marks) -> dict[int, tuple[str, float | None]]:
