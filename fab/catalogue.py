@@ -8,6 +8,7 @@ the stationary steel plate, the assembly. Each `Item` carries the function that 
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
@@ -76,7 +77,9 @@ def write_step(shape, path: Path) -> dict:
     return _solid_info(shape)
 
 
-def write_stl(shape, path: Path, tolerance_mm: float, bed_mm: float = float("inf")) -> dict:
+def write_stl(
+    shape, path: Path, tolerance_mm: float, bed_mm: float = float("inf"), spins: bool = False
+) -> dict:
     shape.exportStl(
         str(path),
         tolerance=tolerance_mm,
@@ -89,10 +92,14 @@ def write_stl(shape, path: Path, tolerance_mm: float, bed_mm: float = float("inf
     box = shape.BoundingBox()
     size = sorted((box.xlen, box.ylen), reverse=True)
     info["size_mm"] = [round(box.xlen, 2), round(box.ylen, 2), round(box.zlen, 2)]
-    if size[0] > bed_mm:
+    if size[0] > bed_mm and spins:
         info["note"] = (
-            f"{size[0]:.0f} mm across, more than fab.print_bed_mm = {bed_mm:g}: print it in parts "
-            "or make it from the DXF drawings"
+            f"{size[0]:.0f} mm across, more than fab.print_bed_mm = {bed_mm:g}: a disc that spins is "
+            "not printed in glued segments; cut it from sheet with the DXF drawing, or use a larger printer"
+        )
+    elif size[0] > bed_mm:
+        info["note"] = (
+            f"{size[0]:.0f} mm across, more than fab.print_bed_mm = {bed_mm:g}: make it from the DXF drawings"
         )
     return info
 
@@ -101,12 +108,86 @@ def _step(make: Callable[[Builder], object]):
     return lambda b, path: write_step(make(b), path)
 
 
-def _stl(make: Callable[[Builder], object]):
+def _stl(make: Callable[[Builder], object], spins: bool = False):
     def write(b: Builder, path: Path) -> dict:
         fb = b.design.spec.fab
-        return write_stl(make(b), path, fb.stl_tolerance_mm, fb.print_bed_mm)
+        return write_stl(make(b), path, fb.stl_tolerance_mm, fb.print_bed_mm, spins)
 
     return write
+
+
+JOIN_HOW = (
+    "; it is printed in {n} segments that fit the bed: glue each half lap (two-part epoxy) and bolt it "
+    "with an M3 bolt, or a 3 mm pin glued in, through its joint hole"
+)
+
+
+def printed_items(
+    design: Design,
+    name: str,
+    what: str,
+    material: str,
+    how: str,
+    make: Callable[[Builder], object],
+    outer_radius_mm: float,
+    joint_radius_mm: float,
+    allowed_rays=None,
+    worker: bool = True,
+) -> list[Item]:
+    """A round printed part as one STL when it fits fab.print_bed_mm; otherwise an STL per
+    segment (fab.segments) and one STEP of them all, as printed side by side."""
+    from fab.segments import segment_plan
+
+    fb = design.spec.fab
+    from fab.segments import LAP_MM
+
+    lap = math.degrees(LAP_MM / 2 / joint_radius_mm)
+    rays = allowed_rays(lap) if allowed_rays is not None else None
+    plan = segment_plan(outer_radius_mm, joint_radius_mm, fb.print_bed_mm, rays)
+    if plan is None or plan.count == 1:
+        return [Item(f"{name}.stl", what, material, "print", how, _stl(make), worker=worker)]
+
+    def segments(b: Builder) -> list:
+        from fab.segments import split
+
+        return b.get(f"{name}-segments", lambda: split(make(b), plan))
+
+    joined = how + JOIN_HOW.format(n=plan.count)
+    items = [
+        Item(
+            f"{name}_seg{k}.stl",
+            f"{what}: segment {k} of {plan.count}",
+            material,
+            "print",
+            joined,
+            _stl(lambda b, k=k: segments(b)[k - 1]),
+            worker=worker,
+        )
+        for k in range(1, plan.count + 1)
+    ]
+
+    def all_segments(b: Builder, path: Path) -> dict:
+        cq = __import__("cadquery")
+        laid = [
+            seg.translate(cq.Vector(0, (k - 1) * (fb.print_bed_mm + 10), 0))
+            for k, seg in enumerate(segments(b), 1)
+        ]
+        info = write_step(cq.Compound.makeCompound(laid), path)
+        info["segments"] = plan.count
+        return info
+
+    items.append(
+        Item(
+            f"{name}_segments.step",
+            f"{what}: its {plan.count} segments as solids",
+            material,
+            "print",
+            joined,
+            all_segments,
+            worker=worker,
+        )  # fmt: skip
+    )
+    return items
 
 
 def _dxf(flat_of: Callable[[Design, float], outlines.Flat], material: str):
@@ -298,7 +379,7 @@ def rotor_items(design: Design) -> list[Item]:
                     mat.name,
                     "print",
                     how,
-                    _stl(lambda b, d=disc: b.disc(d)),
+                    _stl(lambda b, d=disc: b.disc(d), spins=True),
                     worker=True,  # the other process has no templates to make for a printed disc
                 )
             )
@@ -323,8 +404,18 @@ def rotor_items(design: Design) -> list[Item]:
             def template(b, d=disc):
                 return b.get(f"template{d}", lambda: solids.magnet_template(b.design, d))
 
-            items.append(
-                Item(f"{tpl}.stl", what, "printed PETG or PLA", "print", how, _stl(template), worker=True)
+            items.extend(
+                printed_items(
+                    design,
+                    tpl,
+                    what,
+                    "printed PETG or PLA",
+                    how,
+                    template,
+                    lay.outer_radius_mm,
+                    design.spec.magnets.pitch_radius_mm,
+                    lambda lap, d=disc: outlines.template_split_rays(design, d),
+                )
             )
             items.append(
                 Item(
@@ -347,6 +438,7 @@ def mould_items(design: Design) -> list[Item]:
         return b.get("mould", lambda: solids.stator_mould(b.design))
 
     n_coils = len(design.geometry.coil_indices)
+    sl = outlines.stator_layout(design)
     how = (
         f"wax it; pour a first layer {design.spec.stator.resin_cover_mm:g} mm thick and let it gel, lay the "
         "coils over their places as the stator map numbers them, bring the phase ends out through the "
@@ -362,14 +454,16 @@ def mould_items(design: Design) -> list[Item]:
             _step(mould),
             worker=True,
         ),
-        Item(
-            "stator_mould.stl",
+        *printed_items(
+            design,
+            "stator_mould",
             "casting mould for the printer",
             "PETG",
-            "print",
             how,
-            _stl(mould),
-            worker=True,
+            mould,
+            sl.mould_radius_mm,
+            sl.mould_radius_mm - design.spec.stator.mould_wall_mm / 2,
+            lambda lap: outlines.mould_split_rays(design, lap),
         ),
     ]
     for flat in outlines.mould_flats(design):

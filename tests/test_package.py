@@ -14,6 +14,7 @@ import tempfile
 import time
 from pathlib import Path
 
+import cadquery as cq
 import ezdxf
 import numpy as np
 import pytest
@@ -61,17 +62,45 @@ def test_package_holds_every_part(millrace_package):
     names = {f["file"] for f in millrace_package.manifest["files"]}
     for disc in (1, 2):
         assert {f"rotor_disc_{disc}.step", f"rotor_disc_{disc}.dxf"} <= names
-        assert {f"magnet_template_{disc}.stl", f"magnet_template_{disc}.dxf"} <= names  # steel discs
+        assert {f"magnet_template_{disc}_seg1.stl", f"magnet_template_{disc}.dxf"} <= names  # steel discs
         assert f"rotor_disc_{disc}.stl" not in names  # cut, not printed
-    assert {"stator_mould.step", "stator_mould.stl", "winding_jig.step", "winding_jig_core.stl"} <= names
+    assert {"stator_mould.step", "stator_mould_seg1.stl", "winding_jig.step", "winding_jig_core.stl"} <= names
     assert {"winding_jig_cheek.stl", "coil.step", "assembly.step", "SAFETY.txt", "plan.txt"} <= names
     assert {"stator_mould_base.dxf", "stator_mould_frame.dxf", "stator_mould_island.dxf"} <= names
     files = {f["file"]: f for f in millrace_package.manifest["files"]}
     assert files["coil.step"]["quantity"] == 12 and files["coil.step"]["make"] == "wind"
     assert files["winding_jig_cheek.stl"]["quantity"] == 2
     assert files["stator_mould_core.dxf"]["quantity"] == 12
-    # The 351 mm mould is larger than a 250 mm printer bed: the manifest says so.
-    assert "fab.print_bed_mm" in files["stator_mould.stl"]["note"]
+    # The 351 mm mould is larger than a 250 mm printer bed: it comes in segments that fit.
+    assert "stator_mould.stl" not in names
+    assert "segments that fit the bed" in files["stator_mould_seg1.stl"]["how"]
+
+
+def _printed_fit(folder, manifest):
+    """Every printed STL fits fab.print_bed_mm, measured on the file's own triangles, and each
+    segments STEP reads back as that many valid solids."""
+    bed = 250.0  # the demos keep fab.print_bed_mm's default
+    stls = [f for f in manifest["files"] if f["file"].endswith(".stl")]
+    assert stls
+    for f in stls:
+        pts = read_stl(folder / f["file"]).reshape(-1, 3)
+        size = pts.max(axis=0) - pts.min(axis=0)
+        assert size[0] <= bed + 1e-6 and size[1] <= bed + 1e-6, (f["file"], size)
+        assert "note" not in f, f["file"]
+    for f in manifest["files"]:
+        if f["file"].endswith("_segments.step"):
+            shape = cq.importers.importStep(str(folder / f["file"])).val()
+            solids = shape.Solids()
+            assert len(solids) == f["segments"] and all(x.isValid() for x in solids), f["file"]
+            stem = f["file"].removesuffix("_segments.step")
+            assert sum(
+                g["file"].startswith(stem + "_seg") and g["file"].endswith(".stl") for g in stls
+            ) == len(solids)
+
+
+def test_every_printed_part_fits_the_bed(millrace_package, hilltop_package):
+    _printed_fit(millrace_package.folder, millrace_package.manifest)
+    _printed_fit(hilltop_package, json.loads((hilltop_package / "manifest.json").read_text(encoding="utf-8")))
 
 
 def test_the_older_package_was_replaced(millrace_package):
@@ -191,8 +220,14 @@ def test_plain_disc_package_holds_both_discs_and_one_template(hilltop_package):
     manifest = json.loads((hilltop_package / "manifest.json").read_text(encoding="utf-8"))
     files = {f["file"]: f for f in manifest["files"]}
     assert {"rotor_disc_1.step", "rotor_disc_1.dxf", "rotor_disc_2.step", "rotor_disc_2.dxf"} <= set(files)
-    assert {"magnet_template_1.stl", "magnet_template_1.dxf"} <= set(files)  # magnets on steel
-    for name in ("magnet_template_2.stl", "magnet_template_2.dxf", "stator_plate.step", "stator_plate.dxf"):
+    assert {"magnet_template_1_seg1.stl", "magnet_template_1.dxf"} <= set(files)  # magnets on steel
+    for name in (
+        "magnet_template_2_seg1.stl",
+        "magnet_template_2.stl",
+        "magnet_template_2.dxf",
+        "stator_plate.step",
+        "stator_plate.dxf",
+    ):
         assert name not in files, name
     plain = files["rotor_disc_2.dxf"]
     assert plain["material"] == "steel" and plain["make"] == "cut" and plain["thickness_mm"] == 8.0

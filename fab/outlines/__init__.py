@@ -80,9 +80,11 @@ from fab.outlines.stator import (  # noqa: F401
     lead_slots,
     lugged_outline,
     mould_flats,
+    mould_split_rays,
     stator_flat,
     stator_layout,
     stator_plate_flat,
+    template_split_rays,
 )
 from fab.outlines.stator_map import (  # noqa: F401
     MapJoin,

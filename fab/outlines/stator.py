@@ -213,6 +213,47 @@ def _place_labels(design: Design) -> tuple[tuple[str, float, float, float], ...]
     return tuple(out)
 
 
+def mould_split_rays(design: Design, lap_deg: float) -> list[float]:
+    """Angles a printed mould too large for the bed may be cut along (fab.segments): half
+    way between coil places, where only floor, wall and island cross the cut, or through a
+    place wide enough; clear by `lap_deg` and 2° of the pins that stand for the mounting
+    holes and of the lead slots."""
+    sl = stator_layout(design)
+    q = design.geometry.positions
+    pin = math.degrees(math.asin(min(1.0, sl.hole_mm / 2 / sl.lug_radius_mm)))
+    slot = max(abs(a - exit_angle_deg(design)) for a in sl.lead_slot_angles_deg)
+    slot += math.degrees(math.asin(min(1.0, sl.lead_slot_width_mm / 2 / sl.outer_radius_mm)))
+
+    def clear(a: float, centre: float, half: float) -> bool:
+        return abs((a - centre + 180.0) % 360.0 - 180.0) > half + lap_deg + 2.0
+
+    # through the middle of a coil's place too, where the place is wide enough that each half
+    # of it stays joined to its own segment across the lap
+    place = offset_convex(design.geometry.coil.hole_mm, -PLACE_CLEARANCE_MM)
+    narrowest = float(np.degrees(np.ptp(np.arctan2(place[:, 1], place[:, 0]))))
+    through = narrowest > 2 * (lap_deg + 2.0)
+    out = []
+    for k in range(q):
+        for a in [360.0 * (k + 0.5) / q] + ([360.0 * k / q] if through else []):
+            if all(clear(a, lug, pin) for lug in sl.lug_angles_deg) and clear(
+                a, exit_angle_deg(design), slot
+            ):
+                out.append(a)
+    return sorted(out)
+
+
+def template_split_rays(design: Design, disc: int) -> list[float]:
+    """Angles a printed placing template too large for the bed may be cut along (fab.segments):
+    half way between neighbouring magnets, the joint hole on the pitch circle between them."""
+    angles = sorted(
+        math.degrees(math.atan2(m.center_mm[1], m.center_mm[0])) % 360.0
+        for m in design.geometry.magnets
+        if m.disc == disc
+    )
+    pairs = zip(angles, angles[1:] + [angles[0] + 360.0], strict=True)
+    return [((a + b) / 2) % 360.0 for a, b in pairs]
+
+
 def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
     """The mould as boards: base, frame round the stator, island for its bore, one core per coil.
 
