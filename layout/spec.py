@@ -723,12 +723,12 @@ def printable_name(name: str) -> str:
     return "".join(c if c.isprintable() else c.encode("unicode_escape").decode() for c in name)
 
 
-def read_text_input(path: str | Path, what: str) -> tuple[str, str]:
+def read_text_input(path: str | Path, what: str, max_bytes: int = MAX_INPUT_BYTES) -> tuple[str, str]:
     """(source name, text) of a small regular UTF-8 file; DesignError with one line otherwise.
 
     Only regular files are opened, so a FIFO or a device such as /dev/zero cannot block or
-    stream without end; the size is checked before reading. A UTF-8 byte-order mark, as
-    spreadsheets and some editors write, is dropped.
+    stream without end; the size (at most `max_bytes`) is checked before reading. A UTF-8
+    byte-order mark, as spreadsheets and some editors write, is dropped.
     """
     p = Path(path)
     src = printable_name(p.name or str(p))
@@ -742,15 +742,15 @@ def read_text_input(path: str | Path, what: str) -> tuple[str, str]:
         raise DesignError(src, None, None, f"is a folder, not {what}")
     if not stat.S_ISREG(st.st_mode):
         raise DesignError(src, None, None, f"is not a regular file (a pipe or a device?); give {what}")
-    if st.st_size > MAX_INPUT_BYTES:
-        raise DesignError(src, None, None, f"is {st.st_size} bytes; {what} is at most {MAX_INPUT_BYTES}")
+    if st.st_size > max_bytes:
+        raise DesignError(src, None, None, f"is {st.st_size} bytes; {what} is at most {max_bytes}")
     try:
         with open(p, "rb") as f:
-            raw = f.read(MAX_INPUT_BYTES + 1)
+            raw = f.read(max_bytes + 1)
     except OSError as exc:
         raise DesignError(src, None, None, f"cannot be read ({exc.strerror})") from None
-    if len(raw) > MAX_INPUT_BYTES:
-        raise DesignError(src, None, None, f"is larger than {MAX_INPUT_BYTES} bytes; give {what}")
+    if len(raw) > max_bytes:
+        raise DesignError(src, None, None, f"is larger than {max_bytes} bytes; give {what}")
     try:
         return src, raw.decode("utf-8-sig")
     except UnicodeDecodeError:
