@@ -212,6 +212,43 @@ def balance(design, masses_csv, grade, as_json):
 @cli.command()
 @click.argument("design", metavar="DESIGN.toml")
 @click.option(
+    "--readings",
+    "readings_csv",
+    required=True,
+    metavar="READINGS.csv",
+    help="bench readings, CSV with header what,where,value,rpm, one reading a row",
+)
+@click.option(
+    "--waveform",
+    "waveform_csv",
+    default=None,
+    metavar="WAVE.csv",
+    help="a recorded voltage, CSV time_s,volts (or time_s,U,V ... a channel a column)",
+)
+@click.option("--waveform-where", default=None, help="the terminals a time_s,volts waveform was taken across")
+@click.option("--waveform-rpm", type=float, default=None, help="the speed the waveform was recorded at")
+@click.option("--json", "as_json", is_flag=True, help="print a JSON object for scripts")
+def check(design, readings_csv, waveform_csv, waveform_where, waveform_rpm, as_json):
+    """Bench readings of the finished machine against the design: what is wrong, if anything."""
+    from fab.bench_check import bench_check, check_json, check_text
+    from fab.fit import checked_design
+    from fab.report import to_json
+
+    if waveform_csv is None and (waveform_where is not None or waveform_rpm is not None):
+        raise click.UsageError("--waveform-where and --waveform-rpm go with --waveform WAVE.csv")
+    if waveform_csv is not None and waveform_rpm is None:
+        raise click.UsageError("--waveform needs --waveform-rpm, the speed it was recorded at")
+    d = checked_design(design)
+    result = bench_check(d, readings_csv, waveform_csv, waveform_where, waveform_rpm)
+    if as_json:
+        click.echo(to_json(check_json(result)))
+    else:
+        click.echo(check_text(result, d.spec.name, Path(readings_csv).name))
+
+
+@cli.command()
+@click.argument("design", metavar="DESIGN.toml")
+@click.option(
     "--out",
     "out",
     type=click.Path(dir_okay=False),
