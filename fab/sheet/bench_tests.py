@@ -202,5 +202,14 @@ def _test_plan(ctx: _Ctx) -> list:
             "small",
         )
     )
+    out.append(
+        _p(
+            ctx,
+            "Type the readings into a CSV, one a row under the header what,where,value,rpm (the README's "
+            f"statorsmith check section), and run: statorsmith check {spec.file} --readings "
+            f"{spec.name}-readings.csv. It sets them beside these figures and names the fault they fit.",
+            "small",
+        )
+    )
     out.append(_pm(ctx, f"<b>{escape(DEFER)}</b>", "body"))
     return out
