@@ -7,10 +7,11 @@ from __future__ import annotations
 from xml.sax.saxutils import escape
 
 from fab.report import energy_words, suggestion_lines
-from fab.sheet.document import MM, Files, _Ctx, _fmt_ohm, _key_value_table, _p, _pm, _table
+from fab.sheet.document import MM, Files, _Ctx, _figure, _fmt_ohm, _key_value_table, _p, _pm, _table
 from fab.sheet.words import DEFER, _magnet_words, _wire_words, cut_in_rpm_stated, open_circuit_rms_v
 from layout.converter import converter_words
 from layout.design import Design
+from layout.rotor import disc_count, is_plain_disc, rotor_discs
 
 
 def _topology_words(design: Design) -> str:
@@ -172,6 +173,7 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
         *([("with its source", _source_words(d))] if d.operating is not None else []),
     ]
     out.append(_key_value_table(ctx, rows, 52 * MM))
+    out += _exploded(ctx)
     out.append(_p(ctx, "Files in the package", "h2"))
     if files:
         head = [_p(ctx, h, "cell") for h in ("file", "what it is", "how to make it")]
@@ -202,3 +204,30 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
         out.extend(_p(ctx, m, "caution") for m in by_group["Design"])
     out.append(_pm(ctx, f"<b>{escape(DEFER)}</b>", "body"))
     return out
+
+
+EXPLODED_H_MM = 72.0
+
+
+def _exploded(ctx: _Ctx) -> list:
+    """The machine drawn apart along its shaft, from the package's solids."""
+    from fab.sheet.exploded import draw_exploded
+
+    d = ctx.design
+    spec = d.spec
+    if spec.rotor.topology == "one_disc_steel_stator":
+        parts = "the magnet disc below, the stator with its coils and its steel plate above"
+    elif 2 in rotor_discs(spec) and is_plain_disc(spec, 2):
+        parts = "the magnet disc below, the stator with its coils, the plain steel disc above"
+    elif disc_count(spec) == 2:
+        parts = "disc 1 with its magnets below, the stator with its coils, disc 2 above"
+    else:
+        parts = "the magnet disc below, the stator with its coils above it"
+    words = (
+        f"The machine drawn apart along its shaft: {parts} (magnets red with north up, blue with "
+        "south up). Drawn from the package's solids."
+    )
+    return [
+        _figure(ctx.frame_w, EXPLODED_H_MM * MM, lambda c, w, h: draw_exploded(c, w, h, d)),
+        _p(ctx, words, "small"),
+    ]
