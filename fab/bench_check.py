@@ -52,7 +52,7 @@ def check_text(result: BenchCheck, name: str, readings_name: str) -> str:
             _figure(c.measured),
             _figure(c.expected),
             f"{_figure(c.low)} to {_figure(c.high)}",
-            f"{c.deviation_pct:+.1f}",
+            f"{c.deviation_pct:+.1f}" if abs(c.deviation_pct) < 1e4 else f"{c.deviation_pct:+.2g}",
         ]
         for c in result.compared
     ]

@@ -37,8 +37,9 @@ Method.
    kind is sought (reversed coil or phase; short, open or wrong turns of a coil or a phase
    not read alone). If nothing more is needed, nothing more is said; otherwise every single
    fault that fits is listed, and when several coils fit alike they are named together
-   with a way to find the one. A common factor outside the band, with the pattern sound,
-   is the magnets, the gap or the speed reading, and is said so.
+   with a way to find the one. Only then is a common factor outside the band accepted (the
+   magnets, the gap or the speed reading, said so), and last two coils reversed at once.
+   Where a fault fits in band and a sound pattern fits out of it, both are said.
 6. A recorded waveform (steady speed, at least one revolution): the rotor angle advances
    uniformly, so a sound rotor's waveform repeats every electrical period and its spectrum
    holds only multiples of the electrical frequency p·n/60. A magnet the wrong way up or
@@ -47,8 +48,10 @@ Method.
    factor |Σ c_k e^{−ihα_k}| at that order h (a winding whose array factor vanishes there,
    every coil seeing the magnets alike, cannot show it). The spectrum is taken at exact
    orders over whole revolutions (order analysis; e.g. Fyfe & Munck, Mech. Syst. Signal
-   Process. 11(2), 1997, from memory). The fundamental's rms joins the voltage readings,
-   and two channels give the phase sequence from the lag between their fundamentals.
+   Process. 11(2), 1997, from memory). The fundamental's rms joins the voltage readings
+   (one magnet of M flipped takes 2/M off it, by superposition, so the band widens by that
+   where one is seen), and two channels give the phase sequence from the lag between their
+   fundamentals.
 
 Units: ohms, volts (rms unless named), rpm, seconds. Pure functions of the Design's
 figures and the readings; the bands come from the caller (the sheet's, `fab.sheet.words`).
@@ -773,7 +776,7 @@ def check(
     bases = _coil_base(model, readings, bands)
     tiers = (
         lambda: [judge(b) for b in bases],
-        lambda: [judge(b + [x]) for b in bases for x in _extras(model, readings, b, bands, judge)],
+        lambda: [judge(b + [x]) for b in bases for x in _extras(model, readings, b, judge)],
         lambda: [judge(b + list(two)) for b in bases for two in _reversed_pairs(model, b)],
     )
     # The simplest account first: the faults read directly; one more; then weak or strong
@@ -794,19 +797,19 @@ def check(
         if chosen:
             break
     if chosen:
-        findings += _fault_findings(model, chosen, readings, bands, expected)
+        findings += _fault_findings(model, chosen, readings, expected)
         if chosen[0].factor is not None and not chosen[0].in_band:
             findings.append(_magnet_finding(model, chosen[0], readings, bands))
         weak = [f for f in tier(0) if f.agrees and not f.in_band]
         if k > 0 and chosen[0].in_band and weak:
-            findings.append(_ambiguous(model, weak[0], bands))
+            findings.append(_ambiguous(model, weak[0]))
     else:
         near = sorted(tier(1) + tier(2), key=lambda f: f.misfit)
-        findings += _fault_findings(model, tier(0)[:1], readings, bands, expected, quiet=True)
-        findings.append(_unexplained(model, compared, near[:3], bands))
+        findings += _fault_findings(model, tier(0)[:1], readings, expected, quiet=True)
+        findings.append(_unexplained(compared, near[:3]))
     findings += wave_findings
     if not any(f.code not in INFO_CODES for f in findings):
-        findings.insert(0, _ok_finding(model, bands, chosen[0] if chosen else None))
+        findings.insert(0, _ok_finding(bands, chosen[0] if chosen else None))
     verdict = "ok" if all(f.code in INFO_CODES for f in findings) else "fault"
     return BenchCheck(verdict, tuple(findings), compared, analyses)
 
@@ -826,7 +829,7 @@ def _read_alone(readings: Sequence[Reading]) -> set[int]:
     return {int(r.where) for r in readings if r.what == "coil_resistance_ohm"}
 
 
-def _extras(model: BenchModel, readings, base: list[Part], bands: Bands, judge) -> list[Part]:
+def _extras(model: BenchModel, readings, base: list[Part], judge) -> list[Part]:
     """The one more fault to try on top of `base` (method, step 5)."""
     faulted = {k for p in base for k in p.coils if p.code in ("coil.open", "coil.short")}
     measured = _read_alone(readings)
@@ -869,7 +872,7 @@ def _extras(model: BenchModel, readings, base: list[Part], bands: Bands, judge) 
 # ---------------------------------------------------------------- words
 
 
-def _voltage_pattern_words(model: BenchModel, readings, expected) -> str:
+def _voltage_pattern_words(readings, expected) -> str:
     """ "U-V and W-U read 24 % low and V-W as expected" for the voltage readings at hand."""
     parts = []
     for i, rd in enumerate(readings):
@@ -925,7 +928,7 @@ def _delta_loop_words(model: BenchModel, hyp: Hypothesis) -> str:
     )
 
 
-def _fault_findings(model, fits, readings, bands, expected, quiet=False) -> list[Finding]:
+def _fault_findings(model, fits, readings, expected, quiet=False) -> list[Finding]:
     """One finding per kind of fault and phase, the coils that fit it listed together."""
     groups: dict[tuple, list[Part]] = {}
     first_fit: dict[tuple, Fit] = {}
@@ -959,7 +962,7 @@ def _words(model, code, parts, fit_, readings, expected, quiet) -> Finding:
     """The message and the advice for one group of faults."""
     rc = model.coil_resistance_ohm
     part = parts[0]
-    pattern = _voltage_pattern_words(model, readings, expected)
+    pattern = _voltage_pattern_words(readings, expected)
     volts = any(r.what not in RESISTANCE_WHATS for r in readings)
     coils = tuple(sorted({k for p in parts for k in p.coils}))
     read_alone = _read_alone(readings)
@@ -1153,7 +1156,7 @@ def _magnet_finding(model: BenchModel, f: Fit, readings, bands: Bands) -> Findin
     return Finding("voltage.high", (), msg, todo)
 
 
-def _ambiguous(model: BenchModel, alt: Fit, bands: Bands) -> Finding:
+def _ambiguous(model: BenchModel, alt: Fit) -> Finding:
     return Finding(
         "readings.ambiguous",
         (),
@@ -1169,17 +1172,18 @@ def _ambiguous(model: BenchModel, alt: Fit, bands: Bands) -> Finding:
 def _part_words(part: Part) -> str:
     """A fault in a few words: "coil 4 reversed", "phase V backwards"."""
     coils = _subject(part.coils).lower() if part.coils else ""
-    return {
-        "coil.reversed": f"{coils} reversed",
-        "phase.reversed": f"phase {part.phase} backwards",
-        "coil.open": f"{coils} open",
-        "coil.short": f"{coils} shorted",
-        "coil.turns": f"{coils} at {part.factor:.2f} of the turns",
-        "coil.wire": f"{coils} of another wire",
-    }[part.code]
+    if part.code == "phase.reversed":
+        return f"phase {part.phase} backwards"
+    if part.code == "coil.turns":
+        return f"{coils} at {part.factor:.2f} of the turns"
+    if part.code == "coil.wire":
+        return f"{coils} of another wire"
+    return (
+        f"{coils} " + {"coil.reversed": "reversed", "coil.open": "open", "coil.short": "shorted"}[part.code]
+    )
 
 
-def _unexplained(model: BenchModel, compared, near: list[Fit], bands: Bands) -> Finding:
+def _unexplained(compared, near: list[Fit]) -> Finding:
     off = [
         f"{c.what} {c.where} {c.deviation_pct:+.0f} %" if c.where else f"{c.what} {c.deviation_pct:+.0f} %"
         for c in compared
@@ -1198,7 +1202,7 @@ def _unexplained(model: BenchModel, compared, near: list[Fit], bands: Bands) -> 
     )
 
 
-def _ok_finding(model: BenchModel, bands: Bands, f: Fit | None) -> Finding:
+def _ok_finding(bands: Bands, f: Fit | None) -> Finding:
     dc = ""
     if f is not None and f.dc_smoothed is False:
         dc = (
@@ -1209,10 +1213,8 @@ def _ok_finding(model: BenchModel, bands: Bands, f: Fit | None) -> Finding:
         "ok",
         (),
         f"Every reading agrees with the design: resistances within ±{bands.resistance_pct:g} %, open-circuit "
-        f"voltages within the grade's spread ±{bands.open_circuit_pct:g} % and "
-        + ("the phases " if model.phases == 3 else "")
-        + f"within {bands.phase_match_pct:g} % of each other's pattern."
-        + dc,
+        f"voltages within the grade's spread ±{bands.open_circuit_pct:g} % and in proportion to each other "
+        f"within {bands.phase_match_pct:g} %." + dc,
         "Go on to the loaded tests of the test plan.",
     )
 

@@ -27,6 +27,10 @@ RESISTANCE_WHATS = ("coil_resistance_ohm", "phase_resistance_ohm")
 VOLTAGE_WHATS = ("phase_voltage_v", "line_voltage_v", "dc_voltage_v")
 WHATS = RESISTANCE_WHATS + VOLTAGE_WHATS
 MAX_READING_RPM = float(MAX_RPM_LIMIT)  # no bench turns a machine faster than a design may run
+# Past these a value is a slip of the keyboard, not a reading: no machine of this kind makes
+# 10 kV, and an insulation tester's top range is about a teraohm (our own bounds).
+MAX_READING_V = 1e4
+MAX_READING_OHM = 1e12
 WAVEFORM_MAX_BYTES = 32 << 20  # a scope's or sound card's export of a few seconds
 MIN_WAVEFORM_SAMPLES = 16
 
@@ -172,6 +176,9 @@ def read_readings(text: str, source: str, phases: int, coils: tuple[int, ...]) -
             raise fail(
                 line, "value", value_raw, f"must be 0 or more ({unit}; a meter's sign does not matter)"
             )
+        top = MAX_READING_OHM if unit == "ohms" else MAX_READING_V
+        if value > top:
+            raise fail(line, "value", value_raw, f"must be at most {top:g} {unit}")
         rpm = None
         if what in VOLTAGE_WHATS:
             if not rpm_raw:

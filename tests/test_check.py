@@ -291,6 +291,11 @@ def test_the_prediction_itself_is_ok(tmp_path, name):
     assert codes(result) == ["ok"]
     for c in result.compared:
         assert c.low <= c.measured <= c.high
+    # The voltage expected is the test plan's own figure (fab.sheet.words), to the digit.
+    d = design(name)
+    what = "line_voltage_v" if d.layout.phases == 3 else "phase_voltage_v"
+    (row,) = [c for c in result.compared if c.what == what and c.where in ("U-V", "U")]
+    assert row.expected == pytest.approx(open_circuit_rms_v(d, rpm), rel=1e-9)
 
 
 @pytest.mark.parametrize("name", DEMOS)
@@ -540,6 +545,7 @@ GOOD = "what,where,value,rpm\ncoil_resistance_ohm,1,0.37,\n"
         (GOOD + "coil_resistance_ohm,2,abc,\n", "line 3: value"),
         (GOOD + "coil_resistance_ohm,2,nan,\n", "line 3: value"),
         (GOOD + "coil_resistance_ohm,2,-0.3,\n", "line 3: value"),
+        (GOOD + "line_voltage_v,U-V,1e300,300\n", "line 3: value"),
         (GOOD + "line_voltage_v,U-V,40,\n", "line 3: rpm"),
         (GOOD + "line_voltage_v,U-V,40,0\n", "line 3: rpm"),
         (GOOD + "line_voltage_v,U-V,40,-300\n", "line 3: rpm"),
