@@ -15,6 +15,7 @@ from pathlib import Path
 
 from fab import outlines
 from layout.design import Design
+from layout.materials import is_printed_binder
 from layout.rotor import disc_material, disc_thickness_mm, is_plain_disc, pocket_clearance_mm, rotor_discs
 
 ANGULAR_TOLERANCE_RAD = 0.2  # STL facets: with the linear tolerance, fine enough to print
@@ -431,8 +432,12 @@ def rotor_items(design: Design) -> list[Item]:
 
 
 def mould_items(design: Design) -> list[Item]:
-    """The stator's casting mould: one printed piece, or boards cut from the drawings."""
+    """The stator's casting mould (one printed piece, or boards cut from the drawings) and its
+    lid; or, for a printable binder, the printed frame and coil formers in its place."""
     from fab import solids
+
+    if is_printed_binder(design.spec.stator.binder):
+        return printed_stator_items(design)
 
     def mould(b):
         return b.get("mould", lambda: solids.stator_mould(b.design))
@@ -480,7 +485,67 @@ def mould_items(design: Design) -> list[Item]:
                 qty,
             )
         )
+    lid_how = (
+        "wax it or cover it with packing tape; once the mould is filled, lay it on from one side so "
+        "no air is trapped, clamp it down on the frame (or weigh it) until resin comes out of every "
+        "vent, and leave it clamped until the resin has cured"
+    )
+
+    def lid(b):
+        return b.get("lid", lambda: solids.mould_lid(b.design))
+
+    items.append(
+        Item(
+            "stator_mould_lid.dxf",
+            "lid of the mould: keeps the casting flat and as thick as designed",
+            "plywood, MDF or acrylic",
+            "cut",
+            f"cut from {design.spec.stator.mould_wall_mm:g} mm board; " + lid_how,
+            _dxf(lambda d_, k: outlines.mould_lid_flat(d_, k), "plywood, MDF or acrylic"),
+        )  # fmt: skip
+    )
+    items += printed_items(
+        design, "stator_mould_lid", "lid of the mould, for the printer", "PETG", "print it flat; " + lid_how,
+        lid, sl.mould_radius_mm, (sl.inner_radius_mm + sl.mould_radius_mm) / 2,
+    )  # fmt: skip
     return items
+
+
+def printed_stator_items(design: Design) -> list[Item]:
+    """The printed stator: its frame (in segments where it outgrows the bed) and a coil former
+    per coil, which the coil is wound on and stays on in its pocket."""
+    from fab import solids
+
+    n_coils = len(design.geometry.coil_indices)
+    sl = outlines.stator_layout(design)
+    binder = design.spec.stator.binder.upper()
+
+    def frame(b):
+        return b.get("frame", lambda: solids.stator_frame(b.design))
+
+    def former(b):
+        return b.get("former", lambda: solids.coil_former(b.design))
+
+    frame_how = (
+        "print flat, top face up, 100 % infill round the lugs; glue each former with its coil into its "
+        "pocket (two-part epoxy), flange down and flush with the bottom face, at the position the stator "
+        "map numbers; lay the leads in the channel and out through the grooves at the exits"
+    )
+    former_how = (
+        "print flange down; wind the coil on the core against the flange (clamp the jig's other cheek on "
+        "top), tag its leads S and F and leave it on the former"
+    )
+    return [
+        Item("stator_frame.step", "printed stator frame, solid as made", binder, "print", frame_how,
+             _step(frame), worker=True),
+        *printed_items(design, "stator_frame", "printed stator frame", binder, frame_how, frame,
+                       sl.outer_radius_mm, sl.inner_radius_mm + design.spec.stator.resin_rim_mm / 2,
+                       lambda lap: outlines.mould_split_rays(design, lap)),
+        Item("coil_former.step", "coil former (bobbin), solid as made", binder, "print", former_how,
+             _step(former), n_coils, worker=True),
+        Item("coil_former.stl", "coil former (bobbin) for the printer", binder, "print", former_how,
+             _stl(former), n_coils, worker=True),
+    ]  # fmt: skip
 
 
 def winding_items(design: Design) -> list[Item]:

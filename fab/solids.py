@@ -25,18 +25,23 @@ from fab.outlines import (
     Flat,
     Path,
     arc_midpoint,
+    former_flats,
     jig_cheek_flat,
     jig_core_flat,
+    lead_channel_radii_mm,
     lead_slots,
     magnet_template_flat,
     mould_flats,
+    mould_lid_flat,
     polygon,
+    printed_frame_flat,
     rotor_disc_flat,
     stator_flat,
     stator_layout,
     stator_plate_flat,
 )
 from layout.design import Design
+from layout.materials import is_printed_binder
 from layout.rotor import disc_material, disc_place, rotor_discs
 from layout.spec import DesignError
 
@@ -224,6 +229,37 @@ def stator_mould(design: Design):
         return body.cut(*tools)
 
 
+def mould_lid(design: Design):
+    return part_solid(design, mould_lid_flat(design))
+
+
+def stator_frame(design: Design):
+    """The printed stator frame as printed, on z = 0: rim, bore, lugs, a pocket through it per
+    coil, the lead channel round the rim and the grooves out through it at the exits."""
+    cq = _cq()
+    flat = printed_frame_flat(design)
+    t = flat.thickness_mm
+    depth = next(f.depth_mm for f in flat.pockets)
+    r_in, r_out = lead_channel_radii_mm(design)
+    with _stator_thickness(design, "printed stator frame"):
+        body = flat_solid(flat)
+        ring = cq.Solid.makeCylinder(r_out, depth + OVERCUT_MM, cq.Vector(0, 0, t - depth)).cut(
+            cq.Solid.makeCylinder(r_in, depth + 2 * OVERCUT_MM, cq.Vector(0, 0, t - depth - OVERCUT_MM))
+        )
+        return body.cut(ring)
+
+
+def coil_former(design: Design):
+    """One coil former (bobbin) as printed, flange down on z = 0, in coil 1's frame moved so
+    its core's centre is the origin."""
+    cq = _cq()
+    flange, core = former_flats(design)
+    with modelling(design, "coil former", "stator.resin_cover_mm", design.spec.stator.resin_cover_mm):
+        return (
+            flat_solid(flange).fuse(flat_solid(core).translate(cq.Vector(0, 0, flange.thickness_mm))).clean()
+        )
+
+
 def winding_jig(design: Design) -> dict:
     """The jig's pieces as made ("core", "cheek": make two) and, stacked as used, "stack"."""
     cq = _cq()
@@ -285,7 +321,16 @@ def assembly(design: Design, discs: dict | None = None) -> list[Placed]:
         mags = [m for m in geo.magnets if m.disc == disc]
         for j, (m, loc) in enumerate(zip(mags, magnet_locations(design, disc), strict=True), start=1):
             out.append(Placed(f"magnet_{disc}_{j}", magnet, loc, NORTH if m.polarization_t > 0 else SOUTH))
-    out.append(Placed("stator", stator_casting(design), cq.Location(), RESIN))
+    if is_printed_binder(spec.stator.binder):
+        z0 = geo.stator_z_mm[0]
+        out.append(Placed("stator", stator_frame(design), cq.Location(cq.Vector(0, 0, z0)), PRINTED))
+        former = coil_former(design)
+        cx, cy = polygon(geo.coil.hole_mm).centroid()
+        for idx in geo.coil_indices:
+            turn = cq.Location(origin, z_axis, 360.0 * (idx - 1) / geo.positions)
+            out.append(Placed(f"former_{idx}", former, turn * cq.Location(cq.Vector(cx, cy, z0)), PRINTED))
+    else:
+        out.append(Placed("stator", stator_casting(design), cq.Location(), RESIN))
     first = geo.coil_indices[0]
     coil = coil_solid(design, first)
     for idx in geo.coil_indices:

@@ -100,6 +100,14 @@ STATOR_BINDERS_MAX_C: dict[str, float] = {
     "petg": 80.0,
     "abs": 100.0,
 }
+PRINTED_BINDERS = ("pla", "petg", "abs")  # printed as a frame with coil formers, not cast
+
+
+def is_printed_binder(binder: str) -> bool:
+    """Whether a stator of this binder is printed (a frame and formers) rather than cast."""
+    return binder in PRINTED_BINDERS
+
+
 EPOXY_DENSITY_G_CM3 = 1.15  # common handbook value
 # Density of each binder where it is known: the printed ones are the disc plastics; a
 # casting polyester varies too much with its filler to name one.

@@ -67,6 +67,7 @@ def test_package_holds_every_part(millrace_package):
     assert {"stator_mould.step", "stator_mould_seg1.stl", "winding_jig.step", "winding_jig_core.stl"} <= names
     assert {"winding_jig_cheek.stl", "coil.step", "assembly.step", "SAFETY.txt", "plan.txt"} <= names
     assert {"stator_mould_base.dxf", "stator_mould_frame.dxf", "stator_mould_island.dxf"} <= names
+    assert {"stator_mould_lid.dxf", "stator_mould_lid_seg1.stl", "stator_map.dxf"} <= names
     files = {f["file"]: f for f in millrace_package.manifest["files"]}
     assert files["coil.step"]["quantity"] == 12 and files["coil.step"]["make"] == "wind"
     assert files["winding_jig_cheek.stl"]["quantity"] == 2
@@ -237,6 +238,29 @@ def test_plain_disc_package_holds_both_discs_and_one_template(hilltop_package):
     assert manifest["checks"]["running_clearance_mm"] == pytest.approx(2.5, abs=1e-6)
 
 
+def _shoelace(xy) -> float:
+    """Area of a polygon (Gauss's shoelace formula), written here apart from fab.outlines."""
+    return 0.5 * abs(float(np.dot(xy[:, 0], np.roll(xy[:, 1], 1)) - np.dot(xy[:, 1], np.roll(xy[:, 0], 1))))
+
+
+def test_a_printed_binder_gets_a_frame_and_formers_not_a_mould(hilltop_package):
+    manifest = json.loads((hilltop_package / "manifest.json").read_text(encoding="utf-8"))
+    files = {f["file"]: f for f in manifest["files"]}
+    assert not [n for n in files if n.startswith("stator_mould")]
+    assert files["coil_former.stl"]["quantity"] == 9 and files["coil_former.step"]["quantity"] == 9
+    assert "stator_frame.step" in files and "stator_frame_seg1.stl" in files  # 390 mm: in segments
+    # the former as printed, against the closed form: flange (the coil's outline less the fit)
+    # times the cover, and core (the coil's hole) times the coil's height
+    d = design("hilltop")
+    c = d.geometry.coil
+    flange_t = c.z_min_mm - d.geometry.stator_z_mm[0]
+    _, valid, volume = read_step(hilltop_package / "coil_former.step")
+    expected = _shoelace(o.offset_convex(c.outline_mm, -o.PRINT_FIT_MM)) * flange_t + _shoelace(c.hole_mm) * (
+        c.z_max_mm - c.z_min_mm
+    )
+    assert valid and volume == pytest.approx(expected, rel=1e-6)
+
+
 def test_plain_disc_files_read_back(hilltop_package):
     manifest = json.loads((hilltop_package / "manifest.json").read_text(encoding="utf-8"))
     files = {f["file"]: f for f in manifest["files"]}
@@ -250,7 +274,7 @@ def test_plain_disc_files_read_back(hilltop_package):
     assert not auditor.has_errors and not auditor.has_fixes
     layers = {e.dxf.layer for e in doc.modelspace()}
     assert "CUT" in layers and "POCKET" not in layers
-    # Two discs, 12 magnets, the cast stator and 9 coils: nothing else in the assembly.
+    # Two discs, 12 magnets, the printed frame (petg) and 9 coils on 9 formers: nothing else.
     shape, valid, _ = read_step(hilltop_package / "assembly.step")
     from OCP.TopAbs import TopAbs_SOLID
     from OCP.TopExp import TopExp_Explorer
@@ -259,7 +283,7 @@ def test_plain_disc_files_read_back(hilltop_package):
     while exp.More():
         n += 1
         exp.Next()
-    assert valid and n == 2 + 12 + 1 + 9
+    assert valid and n == 2 + 12 + 1 + 9 + 9
 
 
 def test_plain_disc_balance_plan_and_sheet(hilltop_package):

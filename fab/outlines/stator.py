@@ -3,6 +3,7 @@ plate behind a stator that stands still; machine coordinates seen from above."""
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 
@@ -334,6 +335,119 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
         ),
     )
     return [base, frame, island, core]
+
+
+PRINT_FIT_MM = 0.3  # a printed pocket this much larger all round than what drops into it
+LEAD_CHANNEL_DEPTH_MM = 3.0  # the printed frame's lead channel, from its top face
+LEAD_CHANNEL_WALL_MM = 2.0  # frame left outside the channel
+
+
+def printed_frame_flat(design: Design) -> Flat:
+    """The printed stator frame (a printable binder: pla, petg, abs) seen from above: the
+    lugged rim and bore of the cast stator, a pocket through it per coil, each the coil's
+    outline and its former's flange with PRINT_FIT_MM all round, and the lead slots at the
+    exits as grooves from the top. The lead channel round the rim is cut by fab.solids."""
+    spec, geo = design.spec, design.geometry
+    sl = stator_layout(design)
+    holes = _bore_and_lugs(design, sl, sl.inner_radius_mm, "frame bore", 0.0)
+    for idx in geo.coil_indices:
+        outline, _ = geo.coil_polygons(idx)
+        holes.append(
+            Feature("coil_pocket", polygon(offset_convex(outline, PRINT_FIT_MM)), f"coil pocket {idx}",
+                    "stator.coil_clearance_mm", spec.stator.coil_clearance_mm)
+        )  # fmt: skip
+    grooves = tuple(
+        dataclasses.replace(f, kind="groove", depth_mm=LEAD_CHANNEL_DEPTH_MM) for f in lead_slots(design)
+    )
+    return Flat(
+        part="stator_frame",
+        title="printed stator frame",
+        thickness_mm=spec.stator.thickness_mm,
+        thickness_key="stator.thickness_mm",
+        outline=Feature(
+            "outline", lugged_outline(sl), "stator rim", "stator.resin_rim_mm", spec.stator.resin_rim_mm
+        ),
+        holes=tuple(holes),
+        pockets=grooves,
+        web_mm=spec.rotor.min_web_mm,
+    )
+
+
+def lead_channel_radii_mm(design: Design) -> tuple[float, float]:
+    """(inner, outer) radius of the printed frame's lead channel: from the pockets' outer
+    ends to LEAD_CHANNEL_WALL_MM inside the rim."""
+    r_coil = float(np.hypot(*design.geometry.coil.outline_mm.T).max()) + PRINT_FIT_MM
+    return r_coil, stator_layout(design).outer_radius_mm - LEAD_CHANNEL_WALL_MM
+
+
+def former_flats(design: Design) -> tuple[Flat, Flat]:
+    """A coil former (bobbin) in coil 1's frame moved to the origin: its flange, the coil's
+    outline less PRINT_FIT_MM, as thick as the stator's cover under the coil; and its core,
+    the coil's hole, as high as the coil. The coil is wound on the core against the flange
+    and stays on it in its pocket."""
+    geo, st = design.geometry, design.spec.stator
+    c = geo.coil
+    centre = polygon(c.hole_mm).centroid()
+    flange = Flat(
+        part="coil_former_flange",
+        title="coil former flange",
+        thickness_mm=c.z_min_mm - geo.stator_z_mm[0],
+        thickness_key="stator.resin_cover_mm",
+        outline=Feature("outline", polygon(offset_convex(c.outline_mm, -PRINT_FIT_MM) - centre), "flange",
+                        "stator.coil_clearance_mm", st.coil_clearance_mm),
+    )  # fmt: skip
+    core = Flat(
+        part="coil_former_core",
+        title="coil former core",
+        thickness_mm=c.z_max_mm - c.z_min_mm,
+        thickness_key="stator.thickness_mm",
+        outline=Feature(
+            "outline", polygon(c.hole_mm - centre), "core", "stator.hole_margin_mm", st.hole_margin_mm
+        ),
+    )
+    return flange, core
+
+
+LID_VENT_MM = 6.0  # vent holes in the mould's lid, over the rim of resin beyond the coils
+LID_VENTS = 8
+
+
+def mould_lid_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
+    """The mould's lid: a board as wide as the mould, clamped on the frame's top once the
+    mould is filled, so the casting sets flat and exactly as thick as the stator (the running
+    clearance depends on it). Vent holes over the outer rim of resin let the excess and the
+    air out; the bore is left open over the island."""
+    st = design.spec.stator
+    sl = stator_layout(design)
+    g = kerf_mm / 2
+    r_coil = float(np.hypot(*design.geometry.coil.outline_mm.T).max())
+    r_vent = (r_coil + sl.outer_radius_mm) / 2
+    d_vent = min(LID_VENT_MM, sl.outer_radius_mm - r_coil - 2.0)
+    vents = [
+        Feature("vent", _ring_hole(r_vent, 360.0 * (k + 0.5) / LID_VENTS, d_vent, g), f"vent {k + 1}",
+                "stator.resin_rim_mm", st.resin_rim_mm)
+        for k in range(LID_VENTS)
+    ]  # fmt: skip
+    return Flat(
+        part="stator_mould_lid",
+        title="stator mould lid",
+        thickness_mm=st.mould_wall_mm,
+        thickness_key="stator.mould_wall_mm",
+        outline=Feature(
+            "outline",
+            circle(0, 0, sl.mould_radius_mm + g),
+            "mould edge",
+            "stator.mould_wall_mm",
+            st.mould_wall_mm,
+        ),
+        holes=(
+            Feature(
+                "bore", circle(0, 0, sl.inner_radius_mm - 2.0 - g), "over the island", "stator.resin_rim_mm"
+            ),
+            *vents,
+        ),
+        web_mm=design.spec.rotor.min_web_mm,
+    )
 
 
 def stator_plate_flat(design: Design, kerf_mm: float = 0.0) -> Flat:

@@ -19,6 +19,7 @@ from fab.sheet.document import (
 )
 from fab.sheet.magnet_maps import _magnet_map
 from fab.sheet.operating import _source_page
+from fab.sheet.stator_build import _stator_build
 from fab.sheet.stator_map import _stator_map_page
 from fab.sheet.summary import _summary
 from fab.sheet.wiring import _wiring
@@ -55,7 +56,7 @@ def _build(design, filename, paper, balance, files, date) -> None:
         *(_magnet_map(ctx, disc, balance) for disc in range(1, disc_count(design.spec) + 1)),
         _checklist(ctx),
         _wiring(ctx),
-        _stator_map_page(ctx),
+        _stator_map_page(ctx) + _stator_build(ctx),
         _curves(ctx),
         *([_source_page(ctx)] if design.operating is not None else []),
         _balance_and_materials(ctx, balance),

@@ -83,7 +83,14 @@ def _styles() -> dict:
         "head": ParagraphStyle("head", parent=base, fontName=SANS_BOLD, fontSize=8, leading=9.6, alignment=1),
         "h1": ParagraphStyle("h1", parent=base, fontName=SANS_BOLD, fontSize=14, leading=17, spaceAfter=4),
         "h2": ParagraphStyle(
-            "h2", parent=base, fontName=SANS_BOLD, fontSize=10.5, leading=13, spaceBefore=6, spaceAfter=3
+            "h2",
+            parent=base,
+            fontName=SANS_BOLD,
+            fontSize=10.5,
+            leading=13,
+            spaceBefore=6,
+            spaceAfter=3,
+            keepWithNext=1,
         ),
         "caution": ParagraphStyle("caution", parent=base, fontSize=8.5, leading=10.5, leftIndent=10),
     }

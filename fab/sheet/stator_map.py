@@ -10,6 +10,7 @@ from fab.outlines import StatorMap, lugged_outline, stator_map
 from fab.sheet.document import MM, SANS, SANS_BOLD, _Ctx, _figure, _p, _plain
 from fab.sheet.magnet_maps import _draw_scale_bar, _scale_bar_mm
 from layout.design import Design
+from layout.materials import is_printed_binder
 from layout.winding import TERMINAL_LETTERS, joins, terminal_pair
 
 # Each phase's line on paper: a colour and a dash, so a black-and-white print keeps them apart.
@@ -32,18 +33,27 @@ def _fit_scale(size_mm: float, avail_w: float, avail_h: float) -> float:
     return 1000.0
 
 
+def _up_face(design: Design) -> str:
+    """The face the map looks at, as the builder sees it while joining the leads."""
+    if is_printed_binder(design.spec.stator.binder):
+        return "the printed frame's top face"
+    return "the face that lies up in the mould"
+
+
 def map_notes(design: Design) -> list[str]:
     """What the map shows and how to use it, for the page and the DXF alike."""
     lay = design.layout
     kind = design.spec.connection.kind
+    printed = is_printed_binder(design.spec.stator.binder)
     out = [
-        f"{design.spec.name}: stator map, seen from the disc-1 side (the face that lies up in the "
-        "mould, where the leads are joined); units mm.",
-        "Positions are numbered counter-clockwise from 1, as on the mould base; U+ is phase U "
-        "connected as wound (in at S, out at F), U- reversed (in at F, out at S).",
+        f"{design.spec.name}: stator map, seen from the disc-1 side ({_up_face(design)}, where the leads "
+        "are joined); units mm.",
+        "Positions are numbered counter-clockwise from 1" + ("" if printed else ", as on the mould base")
+        + "; U+ is phase U connected as wound (in at S, out at F), U- reversed (in at F, out at S).",
         "S: a coil's start lead, brought out from the hole across the coil's face; F: its finish "
-        "lead at the outer edge. Each join runs in the resin rim beyond the coils.",
-    ]
+        "lead at the outer edge. Each join runs in the " + ("lead channel" if printed else "resin rim")
+        + " beyond the coils.",
+    ]  # fmt: skip
     if lay.empty_positions:
         out.append(f"The phase ends leave through the room of empty position {lay.empty_positions[0]}.")
     if kind == "star":
@@ -152,8 +162,8 @@ def _stator_map_page(ctx: _Ctx) -> list:
     out.append(
         _p(
             ctx,
-            "Seen from the disc-1 side: the face that lies up in the mould, where the coils are placed "
-            "and the leads joined. Turned over into the machine, the order runs clockwise.",
+            f"Seen from the disc-1 side: {_up_face(d)}, where the coils are placed and the leads "
+            "joined. Turned over into the machine, the order runs clockwise.",
         )
     )
     out += [_p(ctx, line, "small") for line in notes[1:]]
@@ -168,8 +178,12 @@ def _stator_map_page(ctx: _Ctx) -> list:
     out.append(
         _p(
             ctx,
-            "The same map, full size, is stator_map.dxf in the package; the mould base drawing "
-            "carries the same numbers and marks.",
+            "The same map, full size, is stator_map.dxf in the package"
+            + (
+                "."
+                if is_printed_binder(d.spec.stator.binder)
+                else "; the mould base drawing carries the same numbers and marks."
+            ),
             "small",
         )
     )

@@ -1,0 +1,131 @@
+"""Making the stator: casting it in the mould with its lid, or printing its frame and coil
+formers; and the spacer that sets the discs' distance apart."""
+
+from __future__ import annotations
+
+from fab.outlines import LID_VENTS, mould_lid_flat, mould_split_rays, stator_layout
+from fab.segments import LAP_MM, segment_plan
+from fab.sheet.document import _Ctx, _p
+from layout.design import Design
+from layout.materials import is_printed_binder
+from layout.rotor import disc_place, rotor_discs
+
+MIN_PRINTED_SKIN_MM = 0.8  # two or three layers of a 0.2–0.3 mm layer height (common practice)
+
+
+def disc_spacing_mm(design: Design) -> float | None:
+    """Distance between the two discs' front faces (the magnets' backs or a plain disc's face),
+    which a spacer at the hub sets; None with one disc (the stator's mounting sets the gap)."""
+    spec, geo = design.spec, design.geometry
+    discs = rotor_discs(spec)
+    if len(discs) < 2:
+        return None
+    return disc_place(spec, geo, 2).front_z_mm - disc_place(spec, geo, 1).front_z_mm
+
+
+def _spacer_words(design: Design) -> str:
+    st, ro = design.spec.stator, design.spec.rotor
+    gap = disc_spacing_mm(design)
+    if gap is None:
+        return (
+            f"The stator's mounting studs set the running clearance: {ro.running_clearance_mm:g} mm between "
+            "the magnets and the stator. Check it with feeler gauges at each stud before the first spin."
+        )
+    return (
+        f"Disc spacing: the discs' inner faces sit {gap:.1f} mm apart (the stator's {st.thickness_mm:g} mm, "
+        f"a running clearance of {ro.running_clearance_mm:g} mm each side, and the magnets standing on the "
+        f"faces). Cut the spacer tube, or set the nuts on the studs between the discs, to {gap:.1f} mm, "
+        "and check the clearance each side with feeler gauges before the first spin."
+    )
+
+
+def _segments_words(design: Design, radius_mm: float, joint_mm: float, what: str, rays=None) -> str:
+    import math
+
+    lap = math.degrees(LAP_MM / 2 / joint_mm)
+    plan = segment_plan(radius_mm, joint_mm, design.spec.fab.print_bed_mm, rays(lap) if rays else None)
+    if plan is None or plan.count == 1:
+        return ""
+    return (
+        f" The {what} comes in {plan.count} segments to fit the {design.spec.fab.print_bed_mm:g} mm bed: "
+        "each joins the next by a half lap; glue the laps (two-part epoxy) and bolt each with an M3 bolt, "
+        "or a 3 mm pin glued in, through its joint hole, on a flat board so the joined part lies flat."
+    )
+
+
+def _casting(ctx: _Ctx) -> list:
+    d = ctx.design
+    st = d.spec.stator
+    sl = stator_layout(d)
+    lid = mould_lid_flat(d)
+    joint = sl.mould_radius_mm - st.mould_wall_mm / 2
+    seg = _segments_words(d, sl.mould_radius_mm, joint, "printed mould", lambda lap: mould_split_rays(d, lap))
+    steps = [
+        "Wax the mould and its lid (three coats of release wax, or packing tape on the lid)." + seg,
+        f"Pour a first layer {st.resin_cover_mm:g} mm deep over the floor and let it gel. Lay the coils "
+        "over their places, magnet side up, as the stator map numbers them; make the joins as it draws "
+        "them, lay the leads in the rim and bring the phase ends out through the lead slots, sealed with "
+        "clay.",
+        "Fill to the top of the frame, working the resin between the turns; a vacuum or a warm room "
+        "helps the air out.",
+        f"Lay the lid ({lid.thickness_mm:g} mm board, or the printed one) on from one side so no air is "
+        f"trapped, and clamp it down on the frame until resin comes out of all {LID_VENTS} vents: the "
+        f"casting then sets flat and {st.thickness_mm:g} mm thick, which the running clearance depends on.",
+        "Leave it clamped until the resin has cured as its maker says, then knock the mould apart.",
+    ]
+    advice = (
+        "Reinforcement and filler (common practice): a layer of light woven glass cloth under and over "
+        "the coils, where the cover allows, stops the casting cracking across the lugs; up to about a "
+        "third by volume of talc or fine silica flour in the resin cuts the heat it gives off curing and "
+        "its shrinkage (from memory: check the resin maker's limit). Never a metal powder: it carries "
+        "eddy currents and can short the coils. A thick casting poured at once can overheat: pour it in "
+        "layers as the maker advises."
+    )
+    out = [_p(ctx, "Casting the stator", "h2")]
+    out += [_p(ctx, f"{k}. {s}") for k, s in enumerate(steps, start=1)]
+    out.append(_p(ctx, advice, "small"))
+    return out
+
+
+def _printing(ctx: _Ctx) -> list:
+    d = ctx.design
+    st = d.spec.stator
+    sl = stator_layout(d)
+    flange = d.geometry.coil.z_min_mm - d.geometry.stator_z_mm[0]
+    seg = _segments_words(
+        d,
+        sl.outer_radius_mm,
+        sl.inner_radius_mm + st.resin_rim_mm / 2,
+        "frame",
+        lambda lap: mould_split_rays(d, lap),
+    )
+    steps = [
+        f"Print the frame flat, top face up, in {st.binder.upper()}; solid infill round the lugs." + seg,
+        "Print a coil former per coil, flange down. Wind each coil on its former's core against the "
+        "flange, the jig's other cheek clamped on top; tag the leads S and F and leave it on the former.",
+        "Glue each former with its coil into its pocket (two-part epoxy), flange down and flush with the "
+        "bottom face, at the position the stator map numbers. Make the joins as the map draws them, lay "
+        "the leads in the channel round the rim and out through the grooves at the exits; pot the "
+        "channel with epoxy once every phase has passed its tests.",
+    ]
+    out = [_p(ctx, "Printing the stator", "h2")]
+    out += [_p(ctx, f"{k}. {s}") for k, s in enumerate(steps, start=1)]
+    if flange < MIN_PRINTED_SKIN_MM:
+        out.append(
+            _p(
+                ctx,
+                f"The formers' flanges are {flange:g} mm thick (stator.resin_cover_mm): print them at a "
+                f"fine layer height, or raise stator.resin_cover_mm to {MIN_PRINTED_SKIN_MM:g} for a "
+                "sturdier flange (the coils get thinner by twice the change: run plan again).",
+                "small",
+            )
+        )
+    return out
+
+
+def _stator_build(ctx: _Ctx) -> list:
+    d = ctx.design
+    out = _printing(ctx) if is_printed_binder(d.spec.stator.binder) else _casting(ctx)
+    out.append(_p(ctx, "Setting the gap", "h2"))
+    out.append(_p(ctx, _spacer_words(d)))
+    return out
