@@ -38,3 +38,13 @@ def test_the_sheet_says_how_to_make_this_stator(demo, heading):
     assert "segments to fit the 250 mm bed" in text  # both outgrow the default bed
     if heading.startswith("Casting"):
         assert "lid" in text and "Never a metal powder" in text
+
+
+def test_the_files_list_gives_a_parts_segments_one_row():
+    from fab.sheet.summary import _grouped
+
+    files = [("a.step", "a", "x")] + [(f"m_seg{k}.stl", f"mould: segment {k} of 3", "how") for k in (1, 2, 3)]
+    assert _grouped(files) == [
+        ("a.step", "a", "x"),
+        ("m_seg1.stl to _seg3.stl", "mould, in 3 segments", "how"),
+    ]

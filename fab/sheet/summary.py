@@ -4,6 +4,7 @@ cautions with the design's own warnings.
 
 from __future__ import annotations
 
+import re
 from xml.sax.saxutils import escape
 
 from fab.report import energy_words, suggestion_lines
@@ -177,7 +178,7 @@ def _summary(ctx: _Ctx, files: Files | None) -> list:
     out.append(_p(ctx, "Files in the package", "h2"))
     if files:
         head = [_p(ctx, h, "cell") for h in ("file", "what it is", "how to make it")]
-        body = [[_p(ctx, f, "cell"), _p(ctx, w, "cell"), _p(ctx, h, "cell")] for f, w, h in files]
+        body = [[_p(ctx, f, "cell"), _p(ctx, w, "cell"), _p(ctx, h, "cell")] for f, w, h in _grouped(files)]
         w0 = 48 * MM
         w1 = (ctx.frame_w - w0) * 0.45
         out.append(_table(ctx, [head, *body], [w0, w1, ctx.frame_w - w0 - w1]))
@@ -230,4 +231,30 @@ def _exploded(ctx: _Ctx) -> list:
     return [
         _figure(ctx.frame_w, EXPLODED_H_MM * MM, lambda c, w, h: draw_exploded(c, w, h, d)),
         _p(ctx, words, "small"),
+    ]
+
+
+_SEGMENT = re.compile(r"^(?P<stem>.+)_seg(?P<k>\d+)\.stl$")
+
+
+def _grouped(files: Files) -> list[tuple[str, str, str]]:
+    """The files list with a part's segment STLs in one row: "stator_mould_seg1.stl to
+    _seg7.stl", what it is and how to make it said once."""
+    out: list[tuple[str, str, str]] = []
+    runs: dict[str, int] = {}
+    for f, w, h in files:
+        m = _SEGMENT.match(f)
+        if m is None:
+            out.append((f, w, h))
+            continue
+        stem = m["stem"]
+        if stem in runs:
+            first, _, _ = out[runs[stem]]
+            out[runs[stem]] = (f"{first.split(' to ')[0]} to _seg{m['k']}.stl", w.split(": segment")[0], h)
+        else:
+            runs[stem] = len(out)
+            out.append((f, w.split(": segment")[0], h))
+    return [
+        (f, f"{w}, in {f.rsplit('_seg', 1)[1].removesuffix('.stl')} segments" if " to " in f else w, h)
+        for f, w, h in out
     ]
