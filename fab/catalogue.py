@@ -8,7 +8,6 @@ the stationary steel plate, the assembly. Each `Item` carries the function that 
 
 from __future__ import annotations
 
-import math
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
@@ -100,7 +99,8 @@ def write_stl(
         )
     elif size[0] > bed_mm:
         info["note"] = (
-            f"{size[0]:.0f} mm across, more than fab.print_bed_mm = {bed_mm:g}: make it from the DXF drawings"
+            f"{size[0]:.0f} mm across, more than fab.print_bed_mm = {bed_mm:g}, and no split of it fits: "
+            "print it on a larger bed, or make it from boards where the package has their drawings"
         )
     return info
 
@@ -140,9 +140,9 @@ def printed_items(
     from fab.segments import segment_plan
 
     fb = design.spec.fab
-    from fab.segments import LAP_MM
+    from fab.segments import lap_deg
 
-    lap = math.degrees(LAP_MM / 2 / joint_radius_mm)
+    lap = lap_deg(outer_radius_mm, joint_radius_mm)
     rays = allowed_rays(lap) if allowed_rays is not None else None
     plan = segment_plan(outer_radius_mm, joint_radius_mm, fb.print_bed_mm, rays)
     if plan is None or plan.count == 1:
@@ -519,6 +519,7 @@ def printed_stator_items(design: Design) -> list[Item]:
     n_coils = len(design.geometry.coil_indices)
     sl = outlines.stator_layout(design)
     binder = design.spec.stator.binder.upper()
+    frame_joint = sl.inner_radius_mm + design.spec.stator.resin_rim_mm / 2  # in the solid ring round the bore
 
     def frame(b):
         return b.get("frame", lambda: solids.stator_frame(b.design))
@@ -539,8 +540,8 @@ def printed_stator_items(design: Design) -> list[Item]:
         Item("stator_frame.step", "printed stator frame, solid as made", binder, "print", frame_how,
              _step(frame), worker=True),
         *printed_items(design, "stator_frame", "printed stator frame", binder, frame_how, frame,
-                       sl.outer_radius_mm, sl.inner_radius_mm + design.spec.stator.resin_rim_mm / 2,
-                       lambda lap: outlines.mould_split_rays(design, lap)),
+                       sl.lug_radius_mm + sl.lug_half_width_mm, frame_joint,
+                       lambda lap: outlines.frame_split_rays(design, lap)),
         Item("coil_former.step", "coil former (bobbin), solid as made", binder, "print", former_how,
              _step(former), n_coils, worker=True),
         Item("coil_former.stl", "coil former (bobbin) for the printer", binder, "print", former_how,

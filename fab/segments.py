@@ -4,7 +4,7 @@ next by a half lap with a bolt hole through it.
 A round part (a mould, a placing template) is cut along rays from its centre into n equal
 sectors. The cut steps half way up: below the mid-plane it lies `lap` degrees one way of the
 ray, above it the same the other way, so neighbours overlap by a lap as long as LAP_MM at the
-joint radius. The lap locates the two pieces along the arc and in height, the bolt through
+rim. The lap locates the two pieces along the arc and in height, the bolt through
 it (or a pin, glued) across; glue the lap faces, or bolt them, or both (common practice for
 printed parts that outgrow the bed).
 
@@ -27,7 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-LAP_MM = 20.0  # length of the half lap along the arc at the joint radius
+LAP_MM = 20.0  # length of the half lap along the arc at the part's rim
 JOINT_HOLE_MM = 3.4  # clearance for an M3 bolt, or a 3 mm pin glued in
 RAY_SHIFT_DEG = 2.0  # how far modelling may move a ray to find solid material for its hole
 
@@ -53,6 +53,14 @@ def _footprint_mm(outer_radius_mm: float, sector_deg: float, lap_deg: float) -> 
     return outer_radius_mm, 2 * outer_radius_mm * (math.sin(half) if half < math.pi / 2 else 1.0)
 
 
+def lap_deg(outer_radius_mm: float, joint_radius_mm: float) -> float:
+    """The half lap's angle either side of a ray: LAP_MM along the arc at the part's rim,
+    and never less than holds the joint hole with a millimetre to spare at its radius."""
+    rim = math.degrees(LAP_MM / 2 / outer_radius_mm)
+    hole = math.degrees(math.asin(min(1.0, (JOINT_HOLE_MM / 2 + 1.0) / joint_radius_mm)))
+    return max(rim, hole)
+
+
 def segment_plan(
     outer_radius_mm: float, joint_radius_mm: float, bed_mm: float, allowed_deg=None
 ) -> SegmentPlan | None:
@@ -60,7 +68,7 @@ def segment_plan(
     of `outer_radius_mm` into segments that fit a `bed_mm` square bed. No rays when it fits
     whole; None when no split can (more than a bed's length from its centre, or the allowed
     rays too far apart: make it from boards)."""
-    lap = math.degrees(LAP_MM / 2 / joint_radius_mm)
+    lap = lap_deg(outer_radius_mm, joint_radius_mm)
     if 2 * outer_radius_mm <= bed_mm:
         return SegmentPlan((), 0.0, joint_radius_mm, outer_radius_mm)
     if outer_radius_mm > bed_mm:

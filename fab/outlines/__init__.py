@@ -80,6 +80,7 @@ from fab.outlines.stator import (  # noqa: F401
     coil_place,
     exit_angle_deg,
     former_flats,
+    frame_split_rays,
     lead_channel_radii_mm,
     lead_slots,
     lugged_outline,

@@ -243,6 +243,26 @@ def mould_split_rays(design: Design, lap_deg: float) -> list[float]:
     return sorted(out)
 
 
+def frame_split_rays(design: Design, lap_deg: float) -> list[float]:
+    """Angles a printed stator frame too large for the bed may be cut along (fab.segments):
+    any whole degree clear by `lap_deg` and 2° of the lugs and the lead grooves. Its pockets
+    go through it, so no cut can strand a piece."""
+    sl = stator_layout(design)
+    lug = math.degrees(math.asin(min(1.0, 2 * sl.lug_half_width_mm / sl.lug_radius_mm)))
+    at = exit_angle_deg(design)
+    slot = max(abs(a - at) for a in sl.lead_slot_angles_deg)
+    slot += math.degrees(math.asin(min(1.0, sl.lead_slot_width_mm / 2 / sl.outer_radius_mm)))
+
+    def clear(a: float, centre: float, half: float) -> bool:
+        return abs((a - centre + 180.0) % 360.0 - 180.0) > half + lap_deg + 2.0
+
+    return [
+        float(a)
+        for a in range(360)
+        if all(clear(a, g, lug) for g in sl.lug_angles_deg) and clear(a, at, slot)
+    ]
+
+
 def template_split_rays(design: Design, disc: int) -> list[float]:
     """Angles a printed placing template too large for the bed may be cut along (fab.segments):
     half way between neighbouring magnets, the joint hole on the pitch circle between them."""

@@ -3,8 +3,8 @@ formers; and the spacer that sets the discs' distance apart."""
 
 from __future__ import annotations
 
-from fab.outlines import LID_VENTS, mould_lid_flat, mould_split_rays, stator_layout
-from fab.segments import LAP_MM, segment_plan
+from fab.outlines import LID_VENTS, frame_split_rays, mould_lid_flat, mould_split_rays, stator_layout
+from fab.segments import lap_deg, segment_plan
 from fab.sheet.document import _Ctx, _p
 from layout.design import Design
 from layout.materials import is_printed_binder
@@ -40,9 +40,7 @@ def _spacer_words(design: Design) -> str:
 
 
 def _segments_words(design: Design, radius_mm: float, joint_mm: float, what: str, rays=None) -> str:
-    import math
-
-    lap = math.degrees(LAP_MM / 2 / joint_mm)
+    lap = lap_deg(radius_mm, joint_mm)
     plan = segment_plan(radius_mm, joint_mm, design.spec.fab.print_bed_mm, rays(lap) if rays else None)
     if plan is None or plan.count == 1:
         return ""
@@ -94,10 +92,10 @@ def _printing(ctx: _Ctx) -> list:
     flange = d.geometry.coil.z_min_mm - d.geometry.stator_z_mm[0]
     seg = _segments_words(
         d,
-        sl.outer_radius_mm,
+        sl.lug_radius_mm + sl.lug_half_width_mm,
         sl.inner_radius_mm + st.resin_rim_mm / 2,
         "frame",
-        lambda lap: mould_split_rays(d, lap),
+        lambda lap: frame_split_rays(d, lap),
     )
     steps = [
         f"Print the frame flat, top face up, in {st.binder.upper()}; solid infill round the lugs." + seg,
