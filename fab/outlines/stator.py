@@ -275,6 +275,22 @@ def template_split_rays(design: Design, disc: int) -> list[float]:
     return [((a + b) / 2) % 360.0 for a, b in pairs]
 
 
+def _mould_edge(sl: StatorLayout, st, g: float) -> Feature:
+    """The mould's round edge, which its base, frame and lid share."""
+    return Feature(
+        "outline",
+        circle(0, 0, sl.mould_radius_mm + g),
+        "mould edge",
+        "stator.mould_wall_mm",
+        st.mould_wall_mm,
+    )
+
+
+def coil_outer_radius_mm(design: Design) -> float:
+    """Radius of the coils' outer corners, where the rim of the stator begins."""
+    return float(np.hypot(*design.geometry.coil.outline_mm.T).max())
+
+
 def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
     """The mould as boards: base, frame round the stator, island for its bore, one core per coil.
 
@@ -292,13 +308,7 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
         title="stator mould base board",
         thickness_mm=st.mould_wall_mm,
         thickness_key="stator.mould_wall_mm",
-        outline=Feature(
-            "outline",
-            circle(0, 0, sl.mould_radius_mm + g),
-            "mould edge",
-            "stator.mould_wall_mm",
-            st.mould_wall_mm,
-        ),
+        outline=_mould_edge(sl, st, g),
         holes=tuple(_lug_holes(sl, g)),  # pins stand here for the mounting holes
         reference=(
             Feature("cavity", cavity.outline.path, "inside of the frame", "stator.resin_rim_mm"),
@@ -312,13 +322,7 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
         title="stator mould frame",
         thickness_mm=st.thickness_mm,
         thickness_key="stator.thickness_mm",
-        outline=Feature(
-            "outline",
-            circle(0, 0, sl.mould_radius_mm + g),
-            "mould edge",
-            "stator.mould_wall_mm",
-            st.mould_wall_mm,
-        ),
+        outline=_mould_edge(sl, st, g),
         holes=(
             Feature(
                 "cavity",
@@ -396,7 +400,7 @@ def printed_frame_flat(design: Design) -> Flat:
 def lead_channel_radii_mm(design: Design) -> tuple[float, float]:
     """(inner, outer) radius of the printed frame's lead channel: from the pockets' outer
     ends to LEAD_CHANNEL_WALL_MM inside the rim."""
-    r_coil = float(np.hypot(*design.geometry.coil.outline_mm.T).max()) + PRINT_FIT_MM
+    r_coil = coil_outer_radius_mm(design) + PRINT_FIT_MM
     return r_coil, stator_layout(design).outer_radius_mm - LEAD_CHANNEL_WALL_MM
 
 
@@ -440,7 +444,7 @@ def mould_lid_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
     st = design.spec.stator
     sl = stator_layout(design)
     g = kerf_mm / 2
-    r_coil = float(np.hypot(*design.geometry.coil.outline_mm.T).max())
+    r_coil = coil_outer_radius_mm(design)
     r_vent = (r_coil + sl.outer_radius_mm) / 2
     d_vent = min(LID_VENT_MM, sl.outer_radius_mm - r_coil - 2.0)
     vents = [
@@ -453,13 +457,7 @@ def mould_lid_flat(design: Design, kerf_mm: float = 0.0) -> Flat:
         title="stator mould lid",
         thickness_mm=st.mould_wall_mm,
         thickness_key="stator.mould_wall_mm",
-        outline=Feature(
-            "outline",
-            circle(0, 0, sl.mould_radius_mm + g),
-            "mould edge",
-            "stator.mould_wall_mm",
-            st.mould_wall_mm,
-        ),
+        outline=_mould_edge(sl, st, g),
         holes=(
             Feature(
                 "bore", circle(0, 0, sl.inner_radius_mm - 2.0 - g), "over the island", "stator.resin_rim_mm"

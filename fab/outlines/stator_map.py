@@ -21,7 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from fab.outlines.stator import StatorLayout, exit_angle_deg, stator_layout
+from fab.outlines.stator import StatorLayout, coil_outer_radius_mm, exit_angle_deg, stator_layout
 from layout.design import Design
 from layout.winding import TERMINAL_LETTERS, joins
 
@@ -126,7 +126,7 @@ def stator_map(design: Design) -> StatorMap:
     """The map of `design`'s stator (see the module's docstring)."""
     geo, lay = design.geometry, design.layout
     sl = stator_layout(design)
-    r_coil = float(np.hypot(*geo.coil.outline_mm.T).max())
+    r_coil = coil_outer_radius_mm(design)
     r_hole = float(np.hypot(*geo.coil.hole_mm.T).max())
     outer = geo.coil.outline_mm[np.argsort(-np.hypot(*geo.coil.outline_mm.T))[:2]]
     half_deg = float(np.degrees(np.abs(np.arctan2(outer[:, 1], outer[:, 0]))).min())
