@@ -30,6 +30,7 @@ from fab.outlines import (
     jig_core_flat,
     magnet_template_flat,
     polygon,
+    printed_frame_flat,
     rotor_disc_flat,
     stator_flat,
     stator_layout,
@@ -38,6 +39,7 @@ from fab.outlines import (
 from layout.advice import with_suggestions
 from layout.design import Design, compute_design
 from layout.geometry import resolve_geometry
+from layout.materials import is_printed_binder
 from layout.rotor import is_plain_disc, is_steel_disc, rotor_discs
 from layout.spec import DesignError, Spec, load_spec
 
@@ -526,6 +528,9 @@ def _part_flats(spec: Spec) -> dict[str, Callable[[Design], tuple[Flat, tuple[Fe
         if is_steel_disc(spec) and not is_plain_disc(spec, disc):
             out[f"magnet_template_{disc}"] = lambda d, k=disc: (magnet_template_flat(d, k), ())
     out["stator"] = lambda d: (stator_flat(d), ())
+    if is_printed_binder(spec.stator.binder):
+        # its lead grooves run out through the rim on purpose: the webs between pockets are checked
+        out["stator_frame"] = lambda d: (dataclasses.replace(printed_frame_flat(d), pockets=()), ())
     if spec.rotor.topology == "one_disc_steel_stator":
         out["stator_plate"] = lambda d: (stator_plate_flat(d), ())
     out["winding_jig_core"] = lambda d: (jig_core_flat(d), ())

@@ -169,3 +169,18 @@ def test_no_jacking_circle_clears_a_crowded_hub():
         except DesignError:
             continue
         assert next(clashes(o.rotor_disc_flat(trial, 2), kinds=frozenset({"jack"})), None), circle
+
+
+def test_a_printed_frame_keeps_two_perimeters_between_its_pockets():
+    # pockets are the coils' outlines grown by the print fit each side, so the web between
+    # them is the coil clearance less twice the fit
+    from fab.fit import check_parts
+    from fab.outlines import PRINT_FIT_MM
+    from fab.outlines.stator import MIN_PRINTED_WEB_MM
+
+    ok = 2 * PRINT_FIT_MM + MIN_PRINTED_WEB_MM + 0.05
+    check_parts(design("hilltop", ("stator.coil_clearance_mm", ok)))
+    with pytest.raises(DesignError) as info:
+        check_parts(design("hilltop", ("stator.coil_clearance_mm", ok - 0.2)))
+    text = str(info.value)
+    assert "stator.coil_clearance_mm" in text and "printed stator frame" in text and "\n" not in text

@@ -54,9 +54,22 @@ def test_segments_hold_the_whole_part_less_their_joint_holes(template_split):
         assert max(box.xlen, box.ylen) <= d.spec.fab.print_bed_mm
 
 
+@pytest.fixture(scope="module")
+def frame_split():
+    from fab.outlines import frame_split_rays, stator_layout
+    from fab.segments import lap_deg
+
+    d = design("hilltop")  # petg: a printed frame
+    sl = stator_layout(d)
+    r, joint = sl.lug_radius_mm + sl.lug_half_width_mm, sl.inner_radius_mm + d.spec.stator.resin_rim_mm / 2
+    plan = segment_plan(r, joint, d.spec.fab.print_bed_mm, frame_split_rays(d, lap_deg(r, joint)))
+    return d, plan, None, split(solids.stator_frame(d), plan)
+
+
 @pytest.mark.skipif(shutil.which("slic3r") is None, reason="no slic3r on this machine")
-def test_a_slicer_slices_every_segment(template_split, tmp_path):
-    d, _, _, segs = template_split
+@pytest.mark.parametrize("which", ["template_split", "frame_split"])
+def test_a_slicer_slices_every_segment(which, request, tmp_path):
+    d, _, _, segs = request.getfixturevalue(which)
     bed = d.spec.fab.print_bed_mm
     for k, s in enumerate(segs, start=1):
         path = tmp_path / f"seg{k}.stl"

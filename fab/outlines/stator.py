@@ -362,6 +362,7 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
 
 
 PRINT_FIT_MM = 0.3  # a printed pocket this much larger all round than what drops into it
+MIN_PRINTED_WEB_MM = 0.8  # two perimeters of a 0.4 mm nozzle between the frame's pockets (common practice)
 LEAD_CHANNEL_DEPTH_MM = 3.0  # the printed frame's lead channel, from its top face
 LEAD_CHANNEL_WALL_MM = 2.0  # frame left outside the channel
 
@@ -393,7 +394,8 @@ def printed_frame_flat(design: Design) -> Flat:
         ),
         holes=tuple(holes),
         pockets=grooves,
-        web_mm=spec.rotor.min_web_mm,
+        web_mm=MIN_PRINTED_WEB_MM,
+        web_key="",  # a printer's limit, not a key's: the pockets' key is named
     )
 
 
