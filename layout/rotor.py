@@ -126,6 +126,14 @@ def disc_place(spec: Spec, geo: Geometry, disc: int) -> DiscPlace:
     return DiscPlace(2, front, front + t, False)
 
 
+def disc_spacing_mm(spec: Spec, geo: Geometry) -> float | None:
+    """Distance between the two discs' front faces (the magnets' backs or a plain disc's face),
+    which a spacer at the hub sets; None with one disc (the stator's mounting sets the gap)."""
+    if len(rotor_discs(spec)) < 2:
+        return None
+    return disc_place(spec, geo, 2).front_z_mm - disc_place(spec, geo, 1).front_z_mm
+
+
 def part_angle_deg(disc: int, machine_angle_deg: float) -> float:
     """Angle on the part as made (magnet side up) of a feature at a machine angle."""
     a = machine_angle_deg if disc == 1 else -machine_angle_deg

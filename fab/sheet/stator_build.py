@@ -8,24 +8,14 @@ from fab.segments import lap_deg, segment_plan
 from fab.sheet.document import _Ctx, _p
 from layout.design import Design
 from layout.materials import is_printed_binder
-from layout.rotor import disc_place, rotor_discs
+from layout.rotor import disc_spacing_mm
 
 MIN_PRINTED_SKIN_MM = 0.8  # two or three layers of a 0.2–0.3 mm layer height (common practice)
 
 
-def disc_spacing_mm(design: Design) -> float | None:
-    """Distance between the two discs' front faces (the magnets' backs or a plain disc's face),
-    which a spacer at the hub sets; None with one disc (the stator's mounting sets the gap)."""
-    spec, geo = design.spec, design.geometry
-    discs = rotor_discs(spec)
-    if len(discs) < 2:
-        return None
-    return disc_place(spec, geo, 2).front_z_mm - disc_place(spec, geo, 1).front_z_mm
-
-
 def _spacer_words(design: Design) -> str:
     st, ro = design.spec.stator, design.spec.rotor
-    gap = disc_spacing_mm(design)
+    gap = disc_spacing_mm(design.spec, design.geometry)
     if gap is None:
         return (
             f"The stator's mounting studs set the running clearance: {ro.running_clearance_mm:g} mm between "
