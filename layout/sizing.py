@@ -688,6 +688,38 @@ def _rated_where_it_runs(req: Requirement, d: Design, text: str, accept) -> tupl
     return again, new
 
 
+def _finer_strands(d: Design, text: str, accept) -> tuple[Design, str]:
+    """Where the wire's own eddy loss is flagged, the thinner strands layout.advice tries for
+    it, each re-run in full; the one with the best rated efficiency is kept if it beats the
+    design's without giving up more than FINER_OUTPUT_LOSS of its rated output, and with no
+    more than MAX_STRANDS_IN_HAND strands to wind together."""
+    from layout.advice import _output_w, _thinner_strands
+
+    if not any(w.code == "coil.wire_eddy" for w in d.warnings):
+        return d, text
+    best = (d.prediction.rated.efficiency, d, text)
+    floor = (1 - FINER_OUTPUT_LOSS) * _output_w(d)
+    for key, cap in _thinner_strands(d):
+        line = f"{key.split('.')[1]} = "
+        start = text.index(line)
+        new = text[:start] + f"{line}{cap:g}" + text[text.index("\n", start) :]
+        try:
+            again = compute_design(_spec(new))
+            if accept is not None:
+                accept(again)
+        except DesignError:
+            continue
+        if again.prediction.wire.strands > MAX_STRANDS_IN_HAND:
+            continue
+        if again.prediction.rated.efficiency > best[0] and _output_w(again) >= floor:
+            best = (again.prediction.rated.efficiency, again, new)
+    return best[1], best[2]
+
+
+FINER_OUTPUT_LOSS = 0.02  # our choice: thinner strands may cost this much output for their efficiency
+MAX_STRANDS_IN_HAND = 8  # more than this wound together by hand tangle and cross (common practice)
+
+
 def _full(req: Requirement, s: Screened, accept, printed_mm=None) -> Result | None:
     text = design_text(req, s.candidate, steel_mm=s.steel_mm or None)
     try:
@@ -698,6 +730,7 @@ def _full(req: Requirement, s: Screened, accept, printed_mm=None) -> Result | No
         _REFUSED.append(str(exc).split(": ", 1)[-1])
         return None
     d, text = _rated_where_it_runs(req, d, text, accept)
+    d, text = _finer_strands(d, text, accept)
     pr, lim = d.prediction, req.limits
     rated = pr.rated
     out_w = rated.delivered_w if rated.delivered_w is not None else rated.dc_power_w

@@ -219,3 +219,22 @@ def test_a_missed_voltage_limit_is_explained_and_its_waiver_re_run():
     assert not any("danger voltage.above_elv" in r.fails for r in s.results)  # said once
     assert "above extra-low voltage (120 V DC)" in s.closest
     assert "limits.elv_at_runaway = false would give" in s.closest, s.closest
+
+
+def test_no_sized_design_keeps_a_wire_eddy_loss_thinner_strands_would_cut():
+    # re-run apart from the search: each thinner strand the advice would try, from the file
+    from layout.advice import _output_w, _thinner_strands
+    from layout.spec import with_values
+
+    for r in demo_sizing().results:
+        d = compute_design(parse_spec(tomllib.loads(r.text), "sized.toml"))
+        if not any(w.code == "coil.wire_eddy" for w in d.warnings):
+            continue
+        for key, cap in _thinner_strands(d):
+            try:
+                again = compute_design(with_values(d.spec, ((key, cap),)))
+            except DesignError:
+                continue
+            better = again.prediction.rated.efficiency > d.prediction.rated.efficiency
+            kept = _output_w(again) >= (1 - S.FINER_OUTPUT_LOSS) * _output_w(d)
+            assert not (better and kept and again.prediction.wire.strands <= S.MAX_STRANDS_IN_HAND), cap
