@@ -98,7 +98,31 @@ def segment_plan(
             best = rays
     if best is None:
         return None
-    return SegmentPlan(tuple(best), lap, joint_radius_mm, outer_radius_mm)
+    return SegmentPlan(_evened(best, allowed, widest), lap, joint_radius_mm, outer_radius_mm)
+
+
+def _widest_gap(rays: list[float]) -> float:
+    r = sorted(rays)
+    return max(b - a for a, b in zip(r, r[1:] + [r[0] + 360.0], strict=True))
+
+
+def _evened(rays: list[float], allowed: list[float], widest: float) -> tuple[float, ...]:
+    """As many rays as `rays`, as near equal spacing as the allowed angles let them be: the
+    greedy walk leaves a short last segment, so each start's evenly spaced targets are
+    snapped to the nearest allowed angle and the set with the narrowest widest sector kept."""
+    n = len(rays)
+    best, best_gap = sorted(rays), _widest_gap(rays)
+    for start in allowed:
+        snapped = []
+        for k in range(n):
+            target = (start + 360.0 * k / n) % 360.0
+            snapped.append(min(allowed, key=lambda a, t=target: abs((a - t + 180.0) % 360.0 - 180.0)))
+        if len(set(snapped)) < n:
+            continue
+        gap = _widest_gap(snapped)
+        if gap <= widest and gap < best_gap - 1e-9:
+            best, best_gap = sorted(snapped), gap
+    return tuple(best)
 
 
 def _wedge(cq, a_deg: float, b_deg: float, r: float, z0: float, z1: float):
