@@ -117,12 +117,6 @@ def _stl(make: Callable[[Builder], object], spins: bool = False):
     return write
 
 
-JOIN_HOW = (
-    "; it is printed in {n} segments that fit the bed: glue each half lap (two-part epoxy) and bolt it "
-    "with an M3 bolt, or a 3 mm pin glued in, through its joint hole"
-)
-
-
 def printed_items(
     design: Design,
     name: str,
@@ -137,14 +131,10 @@ def printed_items(
 ) -> list[Item]:
     """A round printed part as one STL when it fits fab.print_bed_mm; otherwise an STL per
     segment (fab.segments) and one STEP of them all, as printed side by side."""
-    from fab.segments import segment_plan
+    from fab.segments import JOIN_WORDS, segment_plan
 
     fb = design.spec.fab
-    from fab.segments import lap_deg
-
-    lap = lap_deg(outer_radius_mm, joint_radius_mm)
-    rays = allowed_rays(lap) if allowed_rays is not None else None
-    plan = segment_plan(outer_radius_mm, joint_radius_mm, fb.print_bed_mm, rays)
+    plan = segment_plan(outer_radius_mm, joint_radius_mm, fb.print_bed_mm, allowed_rays)
     if plan is None or plan.count == 1:
         return [Item(f"{name}.stl", what, material, "print", how, _stl(make), worker=worker)]
 
@@ -153,7 +143,7 @@ def printed_items(
 
         return b.get(f"{name}-segments", lambda: split(make(b), plan))
 
-    joined = how + JOIN_HOW.format(n=plan.count)
+    joined = how + f"; it is printed in {plan.count} segments that fit the bed: {JOIN_WORDS}"
     items = [
         Item(
             f"{name}_seg{k}.stl",
@@ -168,7 +158,9 @@ def printed_items(
     ]
 
     def all_segments(b: Builder, path: Path) -> dict:
-        cq = __import__("cadquery")
+        from fab.solids import _cq
+
+        cq = _cq()
         laid = [
             seg.translate(cq.Vector(0, (k - 1) * (fb.print_bed_mm + 10), 0))
             for k, seg in enumerate(segments(b), 1)
@@ -415,7 +407,7 @@ def rotor_items(design: Design) -> list[Item]:
                     template,
                     lay.outer_radius_mm,
                     design.spec.magnets.pitch_radius_mm,
-                    lambda lap, d=disc: outlines.template_split_rays(design, d),
+                    lambda _lap, d=disc: outlines.template_split_rays(design, d),
                 )
             )
             items.append(
@@ -466,9 +458,7 @@ def mould_items(design: Design) -> list[Item]:
             "PETG",
             how,
             mould,
-            sl.mould_radius_mm,
-            sl.mould_radius_mm - design.spec.stator.mould_wall_mm / 2,
-            lambda lap: outlines.mould_split_rays(design, lap),
+            *outlines.mould_split(design),
         ),
     ]
     for flat in outlines.mould_flats(design):
@@ -517,9 +507,7 @@ def printed_stator_items(design: Design) -> list[Item]:
     from fab import solids
 
     n_coils = len(design.geometry.coil_indices)
-    sl = outlines.stator_layout(design)
     binder = design.spec.stator.binder.upper()
-    frame_joint = sl.inner_radius_mm + design.spec.stator.resin_rim_mm / 2  # in the solid ring round the bore
 
     def frame(b):
         return b.get("frame", lambda: solids.stator_frame(b.design))
@@ -540,8 +528,7 @@ def printed_stator_items(design: Design) -> list[Item]:
         Item("stator_frame.step", "printed stator frame, solid as made", binder, "print", frame_how,
              _step(frame), worker=True),
         *printed_items(design, "stator_frame", "printed stator frame", binder, frame_how, frame,
-                       sl.lug_radius_mm + sl.lug_half_width_mm, frame_joint,
-                       lambda lap: outlines.frame_split_rays(design, lap)),
+                       *outlines.frame_split(design)),
         Item("coil_former.step", "coil former (bobbin), solid as made", binder, "print", former_how,
              _step(former), n_coils, worker=True),
         Item("coil_former.stl", "coil former (bobbin) for the printer", binder, "print", former_how,

@@ -27,8 +27,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-LAP_MM = 20.0  # length of the half lap along the arc at the part's rim
-JOINT_HOLE_MM = 3.4  # clearance for an M3 bolt, or a 3 mm pin glued in
+LAP_MM = 20.0  # length of the half lap along the arc at the part's rim (our choice)
+JOINT_HOLE_MM = 3.4  # clearance for an M3 bolt (ISO 273 medium series, from memory), or a 3 mm pin glued in
+# How a segmented part is joined, for the package's manifest and the sheet alike.
+JOIN_WORDS = (
+    "glue each half lap (two-part epoxy) and bolt it with an M3 bolt, or a 3 mm pin glued in, "
+    "through its joint hole"
+)
 RAY_SHIFT_DEG = 2.0  # how far modelling may move a ray to find solid material for its hole
 
 
@@ -62,13 +67,14 @@ def lap_deg(outer_radius_mm: float, joint_radius_mm: float) -> float:
 
 
 def segment_plan(
-    outer_radius_mm: float, joint_radius_mm: float, bed_mm: float, allowed_deg=None
+    outer_radius_mm: float, joint_radius_mm: float, bed_mm: float, allowed=None
 ) -> SegmentPlan | None:
-    """The fewest rays, among `allowed_deg` (default: every degree), that split a round part
-    of `outer_radius_mm` into segments that fit a `bed_mm` square bed. No rays when it fits
-    whole; None when no split can (more than a bed's length from its centre, or the allowed
-    rays too far apart: make it from boards)."""
+    """The fewest rays, among those `allowed(lap_deg)` gives (default: every degree), that
+    split a round part of `outer_radius_mm` into segments that fit a `bed_mm` square bed. No
+    rays when it fits whole; None when no split can (more than a bed's length from its centre,
+    or the allowed rays too far apart: make it from boards)."""
     lap = lap_deg(outer_radius_mm, joint_radius_mm)
+    allowed_deg = allowed(lap) if allowed is not None else None
     if 2 * outer_radius_mm <= bed_mm:
         return SegmentPlan((), 0.0, joint_radius_mm, outer_radius_mm)
     if outer_radius_mm > bed_mm:

@@ -36,7 +36,9 @@ def test_every_planned_sector_fits_the_bed(radius):
 def template_split():
     d = design("millrace")
     r = d.forces.disc_outer_radius_mm
-    plan = segment_plan(r, d.spec.magnets.pitch_radius_mm, d.spec.fab.print_bed_mm, template_split_rays(d, 1))
+    plan = segment_plan(
+        r, d.spec.magnets.pitch_radius_mm, d.spec.fab.print_bed_mm, lambda _lap: template_split_rays(d, 1)
+    )
     whole = solids.magnet_template(d, 1)
     return d, plan, whole, split(whole, plan)
 
@@ -56,13 +58,11 @@ def test_segments_hold_the_whole_part_less_their_joint_holes(template_split):
 
 @pytest.fixture(scope="module")
 def frame_split():
-    from fab.outlines import frame_split_rays, stator_layout
-    from fab.segments import lap_deg
+    from fab.outlines import frame_split
 
     d = design("hilltop")  # petg: a printed frame
-    sl = stator_layout(d)
-    r, joint = sl.lug_radius_mm + sl.lug_half_width_mm, sl.inner_radius_mm + d.spec.stator.resin_rim_mm / 2
-    plan = segment_plan(r, joint, d.spec.fab.print_bed_mm, frame_split_rays(d, lap_deg(r, joint)))
+    r, joint, rays = frame_split(d)
+    plan = segment_plan(r, joint, d.spec.fab.print_bed_mm, rays)
     return d, plan, None, split(solids.stator_frame(d), plan)
 
 

@@ -17,7 +17,7 @@ from fab.drawings import write_dxf, write_stator_map
 from fab.outlines import map_nets, mould_flats, stator_layout, stator_map
 from fab.sheet import wiring
 from fab.sheet.stator_map import map_notes
-from layout.winding import terminal_pair
+from layout.winding import TERMINAL_LETTERS, terminal_pair
 
 DEMOS = ["millrace", "hilltop", "pedalbox", "fieldkit"]
 # Our own variant: three positions left empty, three paths in parallel, star.
@@ -187,5 +187,5 @@ def test_the_mould_base_carries_the_maps_numbers(case, tmp_path):
     assert on_map <= texts(base_path, "REFERENCE")
     marks = {t for t, _, _ in on_map}
     for c in d.layout.coils:
-        letter = {"A": "U", "B": "V", "C": "W"}[c.phase]
+        letter = TERMINAL_LETTERS[c.phase]
         assert f"{letter}{'+' if c.polarity > 0 else '-'}" in marks

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -263,6 +264,23 @@ def frame_split_rays(design: Design, lap_deg: float) -> list[float]:
     ]
 
 
+def mould_split(design: Design) -> tuple[float, float, Callable[[float], list[float]]]:
+    """How a printed mould (or its lid's outline) is split when it outgrows the bed, for
+    fab.segments.segment_plan: its outer radius, the joint holes' radius (mid-wall) and the
+    rays it allows."""
+    sl = stator_layout(design)
+    joint = sl.mould_radius_mm - design.spec.stator.mould_wall_mm / 2
+    return sl.mould_radius_mm, joint, lambda lap: mould_split_rays(design, lap)
+
+
+def frame_split(design: Design) -> tuple[float, float, Callable[[float], list[float]]]:
+    """The same for the printed stator frame: out to its lugs, the joint holes in the solid
+    ring round the bore."""
+    sl = stator_layout(design)
+    joint = sl.inner_radius_mm + design.spec.stator.resin_rim_mm / 2
+    return sl.lug_radius_mm + sl.lug_half_width_mm, joint, lambda lap: frame_split_rays(design, lap)
+
+
 def template_split_rays(design: Design, disc: int) -> list[float]:
     """Angles a printed placing template too large for the bed may be cut along (fab.segments):
     half way between neighbouring magnets, the joint hole on the pitch circle between them."""
@@ -361,10 +379,10 @@ def mould_flats(design: Design, kerf_mm: float = 0.0) -> list[Flat]:
     return [base, frame, island, core]
 
 
-PRINT_FIT_MM = 0.3  # a printed pocket this much larger all round than what drops into it
+PRINT_FIT_MM = 0.3  # a printed pocket this much larger all round than what drops into it (common practice)
 MIN_PRINTED_WEB_MM = 0.8  # two perimeters of a 0.4 mm nozzle between the frame's pockets (common practice)
-LEAD_CHANNEL_DEPTH_MM = 3.0  # the printed frame's lead channel, from its top face
-LEAD_CHANNEL_WALL_MM = 2.0  # frame left outside the channel
+LEAD_CHANNEL_DEPTH_MM = 3.0  # the printed frame's lead channel, from its top face (our choice)
+LEAD_CHANNEL_WALL_MM = 2.0  # frame left outside the channel (our choice)
 
 
 def printed_frame_flat(design: Design) -> Flat:
@@ -435,7 +453,7 @@ def former_flats(design: Design) -> tuple[Flat, Flat]:
 
 
 LID_VENT_MM = 6.0  # vent holes in the mould's lid, over the rim of resin beyond the coils
-LID_VENTS = 8
+LID_VENTS = 8  # our choice: one each 45°, so no part of the rim is far from a vent
 
 
 def mould_lid_flat(design: Design, kerf_mm: float = 0.0) -> Flat:

@@ -3,8 +3,8 @@ formers; and the spacer that sets the discs' distance apart."""
 
 from __future__ import annotations
 
-from fab.outlines import LID_VENTS, frame_split_rays, mould_lid_flat, mould_split_rays, stator_layout
-from fab.segments import lap_deg, segment_plan
+from fab.outlines import LID_VENTS, frame_split, mould_lid_flat, mould_split
+from fab.segments import JOIN_WORDS, segment_plan
 from fab.sheet.document import _Ctx, _p
 from layout.design import Design
 from layout.materials import is_printed_binder
@@ -29,25 +29,22 @@ def _spacer_words(design: Design) -> str:
     )
 
 
-def _segments_words(design: Design, radius_mm: float, joint_mm: float, what: str, rays=None) -> str:
-    lap = lap_deg(radius_mm, joint_mm)
-    plan = segment_plan(radius_mm, joint_mm, design.spec.fab.print_bed_mm, rays(lap) if rays else None)
+def _segments_words(design: Design, split: tuple, what: str) -> str:
+    """What the sheet says of a part split to fit the bed (`split` as fab.outlines.mould_split)."""
+    plan = segment_plan(*split[:2], design.spec.fab.print_bed_mm, split[2])
     if plan is None or plan.count == 1:
         return ""
     return (
-        f" The {what} comes in {plan.count} segments to fit the {design.spec.fab.print_bed_mm:g} mm bed: "
-        "each joins the next by a half lap; glue the laps (two-part epoxy) and bolt each with an M3 bolt, "
-        "or a 3 mm pin glued in, through its joint hole, on a flat board so the joined part lies flat."
+        f" The {what} comes in {plan.count} segments to fit the {design.spec.fab.print_bed_mm:g} mm bed, "
+        f"each joined to the next by a half lap: {JOIN_WORDS}, on a flat board so the joined part lies flat."
     )
 
 
 def _casting(ctx: _Ctx) -> list:
     d = ctx.design
     st = d.spec.stator
-    sl = stator_layout(d)
     lid = mould_lid_flat(d)
-    joint = sl.mould_radius_mm - st.mould_wall_mm / 2
-    seg = _segments_words(d, sl.mould_radius_mm, joint, "printed mould", lambda lap: mould_split_rays(d, lap))
+    seg = _segments_words(d, mould_split(d), "printed mould")
     steps = [
         "Wax the mould and its lid (three coats of release wax, or packing tape on the lid)." + seg,
         f"Pour a first layer {st.resin_cover_mm:g} mm deep over the floor and let it gel. Lay the coils "
@@ -78,15 +75,8 @@ def _casting(ctx: _Ctx) -> list:
 def _printing(ctx: _Ctx) -> list:
     d = ctx.design
     st = d.spec.stator
-    sl = stator_layout(d)
     flange = d.geometry.coil.z_min_mm - d.geometry.stator_z_mm[0]
-    seg = _segments_words(
-        d,
-        sl.lug_radius_mm + sl.lug_half_width_mm,
-        sl.inner_radius_mm + st.resin_rim_mm / 2,
-        "frame",
-        lambda lap: frame_split_rays(d, lap),
-    )
+    seg = _segments_words(d, frame_split(d), "frame")
     steps = [
         f"Print the frame flat, top face up, in {st.binder.upper()}; solid infill round the lugs." + seg,
         "Print a coil former per coil, flange down. Wind each coil on its former's core against the "
